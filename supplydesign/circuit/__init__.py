@@ -1,0 +1,1 @@
+"""Circuit models: design -> element netlist (arrays) -> state space -> steady state."""

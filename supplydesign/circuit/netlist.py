@@ -1,0 +1,348 @@
+"""From designs to a batched element netlist.
+
+The rectifier arrangement, the transformer winding and the filter tree are all
+expressed as *data*: a list of two-terminal elements between named nodes, the
+same for every design of a batch (the topology), with one array of values per
+element parameter (one entry per design). The state-space builder, the SPICE
+writer and the figures all read this one description, so a rectifier
+arrangement is never coded twice.
+
+Element kinds (current flows from node ``a`` to node ``b`` through the element):
+
+===== ==================================================================
+``R``  resistor; param ``r`` [ohm] (``inf`` = open)
+``C``  capacitor; param ``c`` [F]
+``L``  choke: inductance ``l`` [H] in series with its DC resistance ``r`` [ohm]
+``W``  winding half: sine emf of peak ``emf`` [V] and phase ``phase`` [rad]
+       (raising the potential from a to b), in series with ``r`` [ohm] and
+       leakage ``l`` [H] (``l`` may be 0)
+``J``  constant current ``i`` [A] from a to b (a stage drawing current)
+``D``  rectifier junction (a = anode): the only nonlinear element; valve
+       (Child-Langmuir, param ``k`` [A/V^1.5]) or silicon (Shockley, params
+       ``isat`` [A] and ``nvt`` [V])
+===== ==================================================================
+
+Two tiny elements make the network regular without changing any figure
+measurably (the same ones go into the SPICE netlist, so both simulators solve
+the same circuit): a capacitance ``JUNCTION_CAPACITANCE`` and conductance
+``JUNCTION_CONDUCTANCE`` across every rectifier junction, and a capacitance
+``NODE_CAPACITANCE`` to ground at nodes that would otherwise have no capacitive
+path to ground (the node between rectifier and choke of a choke-input filter).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..design import Design
+
+GROUND = "0"
+
+#: capacitance across each rectifier junction [F] (a few pF to 100 pF is typical
+#: of real diodes and valve anode-cathode capacitance)
+JUNCTION_CAPACITANCE = 100e-12
+#: conductance across each rectifier junction [S] (keeps an off junction defined)
+JUNCTION_CONDUCTANCE = 1e-9
+#: capacitance to ground at nodes without another capacitive path to ground [F]
+NODE_CAPACITANCE = 1e-9
+
+#: thermal voltage kT/q at 27 degC [V] (Shockley 1949; 300.15 K)
+THERMAL_VOLTAGE_27C = 1.380649e-23 * 300.15 / 1.602176634e-19
+
+
+@dataclass(frozen=True)
+class Element:
+    kind: str  # R C L W J D
+    name: str  # unique, SPICE-friendly
+    a: str  # node names; GROUND is "0"
+    b: str
+    role: tuple = ()  # what it is in the design: ("link", i), ("cap", i), ("esr", i), ...
+    phase: float = 0.0  # W only: emf phase [rad], part of the topology
+
+
+@dataclass(frozen=True)
+class Topology:
+    """Structure shared by every design of a batch."""
+
+    elements: tuple[Element, ...]
+    nodes: tuple[str, ...]  # non-ground nodes, in a fixed order
+    law: str  # "valve" or "silicon": the junction law of every D element
+    rail_nodes: tuple[str, ...]  # node of each rail, in design order
+    rail_names: tuple[str, ...]
+    rectifier_node: str  # the rectifier output (cathode side) node
+    arrangement: str
+    winding: str
+
+    def of_kind(self, kind: str) -> list[Element]:
+        return [e for e in self.elements if e.kind == kind]
+
+    def by_role(self, *role) -> Element | None:
+        for e in self.elements:
+            if e.role == tuple(role):
+                return e
+        return None
+
+
+@dataclass
+class Circuit:
+    """A batch of B designs sharing one topology.
+
+    ``values[element_name][param]`` is an array of shape (B,).
+    ``frequency_hz`` has shape (B,).
+    """
+
+    topology: Topology
+    values: dict[str, dict[str, np.ndarray]]
+    frequency_hz: np.ndarray
+    designs: tuple[Design, ...] = field(default=())
+
+    @property
+    def size(self) -> int:
+        return int(self.frequency_hz.shape[0])
+
+    def value(self, name: str, param: str) -> np.ndarray:
+        return self.values[name][param]
+
+    def subset(self, index) -> Circuit:
+        """The designs selected by ``index`` (a boolean mask or an index array)."""
+        idx = np.asarray(index)
+        vals = {n: {p: v[idx] for p, v in d.items()} for n, d in self.values.items()}
+        designs = tuple(np.asarray(self.designs, dtype=object)[idx]) if self.designs else ()
+        return Circuit(self.topology, vals, self.frequency_hz[idx], designs)
+
+
+# --------------------------------------------------------------------------- building
+
+
+def signature(design: Design) -> tuple:
+    """What must be equal for two designs to share a batch (a hashable tuple)."""
+    rails = []
+    for r in design.rails:
+        cap = r.capacitor
+        rails.append((
+            r.parent,
+            r.link.kind,
+            None if cap is None else (cap.esr_ohm > 0),
+            r.load_resistance_ohm is not None,
+        ))
+    rect = design.rectifier
+    return (
+        design.transformer.winding,
+        rect.arrangement,
+        rect.kind,
+        rect.kind == "silicon" and rect.series_resistance_ohm > 0,
+        design.transformer.leakage_h > 0,
+        tuple(rails),
+    )
+
+
+@dataclass(frozen=True)
+class OperatingCase:
+    """How a design is operated: mains factor and which load current the stages draw.
+
+    ``load`` is "full" (``current``), "idle" (``idle_current``) or "none" (valves cold:
+    no stage draws anything, resistive loads open).
+    """
+
+    name: str = "nominal"
+    mains_factor: float = 1.0
+    load: str = "full"
+
+
+NOMINAL = OperatingCase()
+
+
+def _topology(design: Design) -> Topology:
+    tr, rect = design.transformer, design.rectifier
+    winding, arrangement = tr.winding, rect.arrangement
+    elements: list[Element] = []
+    out = "rect"
+
+    def junction(k: int, anode: str, cathode: str) -> None:
+        if rect.kind == "silicon" and rect.series_resistance_ohm > 0:
+            j = f"j{k}"
+            elements.append(Element("D", f"d{k}", anode, j, ("diode", k)))
+            elements.append(Element("R", f"rd{k}", j, cathode, ("diode_r", k)))
+            across_b = j
+        else:
+            elements.append(Element("D", f"d{k}", anode, cathode, ("diode", k)))
+            across_b = cathode
+        elements.append(Element("C", f"cj{k}", anode, across_b, ("junction_c", k)))
+        elements.append(Element("R", f"rj{k}", anode, across_b, ("junction_g", k)))
+
+    if arrangement == "full-wave":
+        # center-tapped: two halves in antiphase, the tap at ground
+        elements.append(Element("W", "w1", GROUND, "a1", ("winding", 1), phase=0.0))
+        elements.append(Element("W", "w2", GROUND, "a2", ("winding", 2), phase=np.pi))
+        junction(1, "a1", out)
+        junction(2, "a2", out)
+    elif arrangement == "half-wave":
+        elements.append(Element("W", "w1", GROUND, "a1", ("winding", 1), phase=0.0))
+        junction(1, "a1", out)
+    elif arrangement == "bridge":
+        # single winding from node b1 to node a1; four junctions
+        elements.append(Element("W", "w1", "b1", "a1", ("winding", 1), phase=0.0))
+        junction(1, "a1", out)
+        junction(2, "b1", out)
+        junction(3, GROUND, "a1")
+        junction(4, GROUND, "b1")
+    else:  # validated earlier; kept as a guard for programmatic use
+        raise ValueError(f"unknown arrangement {arrangement!r}")
+
+    rail_nodes: list[str] = []
+    for i, r in enumerate(design.rails):
+        parent_node = out if r.parent is None else rail_nodes[design.rail_index(r.parent)]
+        kind = r.link.kind
+        if kind == "wire":
+            node = parent_node
+        else:
+            node = f"n{i + 1}"
+            if kind == "resistor":
+                elements.append(Element("R", f"rl{i + 1}", parent_node, node, ("link", i)))
+            elif kind == "choke":
+                elements.append(Element("L", f"l{i + 1}", parent_node, node, ("link", i)))
+            else:
+                raise ValueError(f"rail {r.name!r}: link {kind!r} is not a built part")
+        rail_nodes.append(node)
+        cap = r.capacitor
+        if cap is not None:
+            if cap.esr_ohm > 0:
+                inner = f"e{i + 1}"
+                elements.append(Element("R", f"re{i + 1}", node, inner, ("esr", i)))
+                elements.append(Element("C", f"c{i + 1}", inner, GROUND, ("cap", i)))
+            else:
+                elements.append(Element("C", f"c{i + 1}", node, GROUND, ("cap", i)))
+        if r.load_resistance_ohm is not None:
+            elements.append(Element("R", f"rload{i + 1}", node, GROUND, ("load", i)))
+        else:
+            elements.append(Element("J", f"i{i + 1}", node, GROUND, ("load", i)))
+
+    nodes: list[str] = []
+    for e in elements:
+        for n in (e.a, e.b):
+            if n != GROUND and n not in nodes:
+                nodes.append(n)
+
+    _add_node_capacitances(elements, nodes, [out, *rail_nodes], inductive=tr.leakage_h > 0)
+
+    return Topology(
+        elements=tuple(elements),
+        nodes=tuple(nodes),
+        law=rect.kind,
+        rail_nodes=tuple(rail_nodes),
+        rail_names=tuple(r.name for r in design.rails),
+        rectifier_node=out,
+        arrangement=arrangement,
+        winding=winding,
+    )
+
+
+def _spread(elements: list[Element], reached: set[str], kinds: set[str]) -> None:
+    """Grow ``reached`` along elements of ``kinds`` until nothing changes."""
+    changed = True
+    while changed:
+        changed = False
+        for e in elements:
+            if e.kind in kinds and (e.a in reached) != (e.b in reached):
+                reached.update((e.a, e.b))
+                changed = True
+
+
+def _add_node_capacitances(elements: list[Element], nodes: list[str], preferred: list[str],
+                           inductive: bool) -> None:
+    """Add ``NODE_CAPACITANCE`` to ground where the network would be singular.
+
+    A node touched by capacitors must reach ground through capacitors (else the
+    capacitor voltages of its group float); a node touched by none is solved
+    algebraically and must reach ground or a capacitor node through resistances.
+    """
+    order = [n for n in preferred if n in nodes] + [n for n in nodes if n not in preferred]
+    touched = {n for e in elements if e.kind == "C" for n in (e.a, e.b)} - {GROUND}
+    grounded = {GROUND}
+    _spread(elements, grounded, {"C"})
+    for n in order:
+        if n in touched and n not in grounded:
+            elements.append(Element("C", f"cp_{n}", n, GROUND, ("node_c", n)))
+            grounded.add(n)
+            _spread(elements, grounded, {"C"})
+    resistive = {"R"} if inductive else {"R", "W"}
+    anchored = grounded | touched | {GROUND}
+    _spread(elements, anchored, resistive)
+    for n in order:
+        if n not in anchored:
+            elements.append(Element("C", f"cp_{n}", n, GROUND, ("node_c", n)))
+            anchored.add(n)
+            _spread(elements, anchored, resistive)
+
+
+def _element_values(design: Design, topo: Topology, case: OperatingCase) -> dict[str, dict]:
+    tr, rect = design.transformer, design.rectifier
+    vals: dict[str, dict[str, float]] = {}
+    amp = np.sqrt(2.0) * tr.open_circuit_v * case.mains_factor
+    for e in topo.elements:
+        role = e.role
+        if e.kind == "W":
+            vals[e.name] = {"emf": amp, "r": tr.resistance_ohm, "l": tr.leakage_h}
+        elif role[0] == "diode":
+            if rect.kind == "valve":
+                vals[e.name] = {"k": rect.perveance}
+            else:
+                vals[e.name] = {"isat": rect.saturation_current_a,
+                                "nvt": rect.emission * THERMAL_VOLTAGE_27C}
+        elif role[0] == "diode_r":
+            vals[e.name] = {"r": rect.series_resistance_ohm}
+        elif role[0] == "junction_c":
+            vals[e.name] = {"c": JUNCTION_CAPACITANCE}
+        elif role[0] == "junction_g":
+            vals[e.name] = {"r": 1.0 / JUNCTION_CONDUCTANCE}
+        elif role[0] == "node_c":
+            vals[e.name] = {"c": NODE_CAPACITANCE}
+        else:
+            rail = design.rails[role[1]]
+            if role[0] == "link":
+                if e.kind == "R":
+                    vals[e.name] = {"r": rail.link.resistance_ohm}
+                else:
+                    vals[e.name] = {"l": rail.link.inductance_h, "r": rail.link.resistance_ohm}
+            elif role[0] == "esr":
+                vals[e.name] = {"r": rail.capacitor.esr_ohm}
+            elif role[0] == "cap":
+                vals[e.name] = {"c": rail.capacitor.capacitance_f}
+            elif role[0] == "load":
+                if e.kind == "R":
+                    vals[e.name] = {"r": np.inf if case.load == "none" else rail.load_resistance_ohm}
+                else:
+                    current = {"full": rail.current_a, "idle": rail.idle_a, "none": 0.0}[case.load]
+                    vals[e.name] = {"i": current}
+            else:  # pragma: no cover - every role is listed above
+                raise AssertionError(role)
+    return vals
+
+
+def build(designs: Sequence[Design], case: OperatingCase = NOMINAL) -> Circuit:
+    """Build the batched circuit of ``designs`` (all of one :func:`signature`)."""
+    if not designs:
+        raise ValueError("no designs")
+    sig = signature(designs[0])
+    for d in designs[1:]:
+        if signature(d) != sig:
+            raise ValueError("designs of one batch must share a topology; use group_by_topology")
+    topo = _topology(designs[0])
+    per = [_element_values(d, topo, case) for d in designs]
+    values = {
+        name: {p: np.array([v[name][p] for v in per], dtype=float) for p in per[0][name]}
+        for name in per[0]
+    }
+    freq = np.array([d.mains.frequency_hz for d in designs], dtype=float)
+    return Circuit(topo, values, freq, tuple(designs))
+
+
+def group_by_topology(designs: Sequence[Design]) -> list[list[int]]:
+    """Indices of ``designs`` grouped by topology, groups in order of first appearance."""
+    groups: dict[tuple, list[int]] = {}
+    for i, d in enumerate(designs):
+        groups.setdefault(signature(d), []).append(i)
+    return list(groups.values())

@@ -1,0 +1,183 @@
+"""The validated design: plain dataclasses holding SI floats.
+
+A *design* fixes every part; a *brief* is the same structure with some choices
+left open (see shared file contract, "One file for briefs and designs"). Open
+choices are marked by ``None`` values together with the ``open`` flags below, so
+one set of types serves both; :func:`Design.is_complete` tells them apart.
+
+Units: V, A, ohm, F, H, Hz, W, s; fractions (0.1 for 10 %).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+
+WINDINGS = ("center-tapped", "single")
+RECTIFIER_KINDS = ("valve", "silicon")
+ARRANGEMENTS = ("full-wave", "bridge", "half-wave")
+LINK_KINDS = ("wire", "resistor", "choke", "choose")
+
+# Defaults of a generic 1 kV, 1 A silicon diode (shared file contract).
+SILICON_SATURATION_A = 5e-9
+SILICON_EMISSION = 1.8
+SILICON_SERIES_OHM = 0.05
+
+
+@dataclass(frozen=True)
+class Mains:
+    frequency_hz: float = 50.0
+    low: float = 0.10  # fraction below nominal at the low limit
+    high: float = 0.10  # fraction above nominal at the high limit
+
+
+@dataclass(frozen=True)
+class Transformer:
+    winding: str = "center-tapped"
+    open_circuit_v: float | None = None  # rms, no load, nominal mains; per half if center-tapped
+    resistance_ohm: float | None = None  # total source resistance per half (or whole winding)
+    leakage_h: float = 0.0  # series leakage inductance per half
+    rated_current_a: float | None = None  # DC load current rating
+    part: str | None = None  # catalog id, when taken from a catalog
+    choose: tuple[str, ...] = ()  # brief: catalog ids to choose among
+    price: float | None = None
+    currency: str | None = None
+
+
+@dataclass(frozen=True)
+class Rectifier:
+    kind: str = "silicon"
+    arrangement: str = "full-wave"
+    # valve (Child-Langmuir, one point)
+    drop_v: float | None = None
+    drop_current_a: float | None = None
+    # silicon (Shockley with series resistance)
+    saturation_current_a: float = SILICON_SATURATION_A
+    emission: float = SILICON_EMISSION
+    series_resistance_ohm: float = SILICON_SERIES_OHM
+    # limits (optional)
+    max_peak_current_a: float | None = None
+    max_reservoir_f: float | None = None
+    max_surge_current_a: float | None = None
+    min_source_resistance_ohm: float | None = None
+    part: str | None = None
+    choose: tuple[str, ...] = ()
+    price: float | None = None
+    currency: str | None = None
+
+    @property
+    def perveance(self) -> float:
+        """Child-Langmuir constant K [A/V^1.5] of one anode: K = I / V^1.5 at the given point."""
+        if self.drop_v is None or self.drop_current_a is None:
+            raise ValueError("valve rectifier needs drop_v and drop_current_a")
+        return self.drop_current_a / self.drop_v**1.5
+
+
+@dataclass(frozen=True)
+class Link:
+    """The element from the parent node to a rail.
+
+    kind "wire" (first rail only), "resistor", "choke"; in briefs also "choose"
+    (``among`` lists the kinds allowed) and a resistor or choke with its value
+    left open (``resistance_ohm`` / ``inductance_h`` is None and ``part`` None).
+    """
+
+    kind: str = "wire"
+    resistance_ohm: float | None = None  # resistor value, or choke DCR
+    inductance_h: float | None = None  # choke only
+    power_w: float | None = None  # resistor power rating
+    current_rating_a: float | None = None  # choke DC current rating
+    part: str | None = None
+    among: tuple[str, ...] = ()
+    price: float | None = None
+    currency: str | None = None
+
+    @property
+    def is_open(self) -> bool:
+        if self.kind == "choose":
+            return True
+        if self.kind == "resistor":
+            return self.resistance_ohm is None
+        if self.kind == "choke":
+            return self.inductance_h is None or self.resistance_ohm is None
+        return False
+
+
+@dataclass(frozen=True)
+class Capacitor:
+    capacitance_f: float | None = None  # None: to be chosen (briefs)
+    esr_ohm: float = 0.0
+    voltage_rating_v: float | None = None
+    ripple_rating_a: float | None = None
+    part: str | None = None
+    price: float | None = None
+    currency: str | None = None
+
+    @property
+    def is_open(self) -> bool:
+        return self.capacitance_f is None
+
+
+@dataclass(frozen=True)
+class Rail:
+    name: str
+    parent: str | None = None  # name of the parent rail; None = rectifier output
+    link: Link = field(default_factory=Link)
+    capacitor: Capacitor | None = None  # None: no capacitor at this rail ("none")
+    current_a: float = 0.0  # constant-current load at full signal
+    load_resistance_ohm: float | None = None  # or a fixed resistive load instead
+    idle_current_a: float | None = None  # default: current_a
+    # brief targets (kept in designs so evaluate shows margins)
+    voltage_v: float | None = None
+    tolerance: float = 0.05
+    hum_v: float | None = None  # allowed ripple, rms
+
+    @property
+    def idle_a(self) -> float:
+        return self.current_a if self.idle_current_a is None else self.idle_current_a
+
+
+@dataclass(frozen=True)
+class Design:
+    """A supply design (or a brief, when some choices are still open).
+
+    Rails are in file order; a rail's parent always comes before it.
+    """
+
+    title: str
+    mains: Mains
+    transformer: Transformer
+    rectifier: Rectifier
+    rails: tuple[Rail, ...]
+    source: str = "<memory>"  # file it was read from, for messages
+    catalog: str | None = None  # catalog directory named by the brief, if any
+
+    def rail_index(self, name: str) -> int:
+        for i, r in enumerate(self.rails):
+            if r.name == name:
+                return i
+        raise KeyError(name)
+
+    def parent_index(self, i: int) -> int:
+        """Index of rail i's parent rail, or -1 for the rectifier output."""
+        p = self.rails[i].parent
+        return -1 if p is None else self.rail_index(p)
+
+    def open_choices(self) -> list[str]:
+        """Dotted keys of the choices still open (empty for a complete design)."""
+        out = []
+        if self.transformer.choose or self.transformer.open_circuit_v is None:
+            out.append("transformer")
+        if self.rectifier.choose:
+            out.append("rectifier")
+        for i, r in enumerate(self.rails):
+            if r.link.is_open:
+                out.append(f"rail[{i}].link")
+            if r.capacitor is not None and r.capacitor.is_open:
+                out.append(f"rail[{i}].capacitor")
+        return out
+
+    def is_complete(self) -> bool:
+        return not self.open_choices()
+
+    def with_rails(self, rails) -> Design:
+        return replace(self, rails=tuple(rails))

@@ -1,0 +1,107 @@
+"""The one pint registry and the parsing of quantities written as strings.
+
+Every quantity in a file is a string with units ("47 uF", "2.2 kohm"); it is
+converted once, at the file boundary, to a plain SI float. Nothing downstream
+sees pint.
+"""
+
+from __future__ import annotations
+
+import math
+from functools import lru_cache
+
+from .errors import UserError
+
+# dimension name -> (SI unit string, human word used in messages)
+DIMENSIONS: dict[str, tuple[str, str]] = {
+    "voltage": ("volt", "a voltage such as '420 V'"),
+    "current": ("ampere", "a current such as '150 mA'"),
+    "resistance": ("ohm", "a resistance such as '2.2 kohm'"),
+    "capacitance": ("farad", "a capacitance such as '47 uF'"),
+    "inductance": ("henry", "an inductance such as '10 H'"),
+    "frequency": ("hertz", "a frequency such as '50 Hz'"),
+    "power": ("watt", "a power such as '5 W'"),
+    "time": ("second", "a time such as '30 s'"),
+    "fraction": ("", "a percentage such as '10 %'"),
+    "temperature": ("kelvin", "a temperature such as '40 degC'"),
+}
+
+
+@lru_cache(maxsize=1)
+def registry():
+    """The project's single pint UnitRegistry (created lazily, on first use)."""
+    import pint
+
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    # "%" is defined by pint >= 0.21 as 0.01; make sure of it for older ones.
+    try:
+        ureg.Quantity("1 %")
+    except Exception:  # pragma: no cover - depends on the pint version
+        ureg.define("percent = 0.01 = %")
+    return ureg
+
+
+def parse_quantity(text: object, dimension: str, *, file: str | None = None,
+                   key: str | None = None) -> float:
+    """Parse ``text`` (a string with units) into a SI float of ``dimension``.
+
+    Parameters
+    ----------
+    text : str
+        The value as written in the file, for example ``"47 uF"``.
+    dimension : str
+        One of :data:`DIMENSIONS` (``"capacitance"``, ``"fraction"``, ...).
+
+    Returns
+    -------
+    float
+        The value in SI base units (F, V, A, ohm, H, Hz, W, s; a fraction for
+        percentages, so "10 %" gives 0.1).
+
+    Raises
+    ------
+    UserError
+        For a bare number, an unknown unit, the wrong dimension or a value that
+        is not finite.
+    """
+    si_unit, word = DIMENSIONS[dimension]
+    if isinstance(text, bool) or not isinstance(text, str):
+        if isinstance(text, int | float):
+            raise UserError(f"expected {word} (a string with a unit), got the bare number {text!r}",
+                            file, key)
+        raise UserError(f"expected {word}, got {type(text).__name__} {text!r}", file, key)
+    stripped = text.strip()
+    if not stripped:
+        raise UserError(f"expected {word}, got an empty string", file, key)
+    ureg = registry()
+    try:
+        q = ureg.Quantity(stripped)
+    except Exception:
+        raise UserError(f"expected {word}, could not read {text!r}", file, key) from None
+    magnitude = q.magnitude
+    if not isinstance(magnitude, int | float):
+        raise UserError(f"expected {word}, got {text!r}", file, key)
+    if q.dimensionless and q.units == ureg.dimensionless:
+        # A bare number: only fractions given as bare numbers would be ambiguous too.
+        raise UserError(f"expected {word}, got {text!r} without a unit", file, key)
+    try:
+        value = float(q.to(si_unit).magnitude) if si_unit else float(q.to("").magnitude)
+    except Exception:
+        raise UserError(f"expected {word}, got {text!r} ({q.dimensionality})", file, key) from None
+    if not math.isfinite(value):
+        raise UserError(f"expected {word}, got the non-finite value {text!r}", file, key)
+    return value
+
+
+def format_si(value: float, unit: str, digits: int = 3) -> str:
+    """Format a SI float with an engineering prefix: ``format_si(4.7e-5, "F") == "47 µF"``."""
+    if value is None or not math.isfinite(value):
+        return "—"
+    if value == 0:
+        return f"0 {unit}"
+    prefixes = {-12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M"}
+    exp3 = int(math.floor(math.log10(abs(value)) / 3) * 3)
+    exp3 = max(-12, min(6, exp3))
+    scaled = value / 10**exp3
+    text = f"{scaled:.{digits}g}"
+    return f"{text} {prefixes[exp3]}{unit}"
