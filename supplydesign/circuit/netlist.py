@@ -14,8 +14,8 @@ Element kinds (current flows from node ``a`` to node ``b`` through the element):
 ``C``  capacitor; param ``c`` [F]
 ``L``  choke: inductance ``l`` [H] in series with its DC resistance ``r`` [ohm]
 ``W``  winding half: sine emf of peak ``emf`` [V] and phase ``phase`` [rad]
-       (raising the potential from a to b), in series with ``r`` [ohm] and
-       leakage ``l`` [H] (``l`` may be 0)
+       (raising the potential from a to b), in series with ``r`` [ohm]; its
+       leakage inductance, when given, is a separate ``L`` element
 ``J``  constant current ``i`` [A] from a to b (a stage drawing current)
 ``D``  rectifier junction (a = anode): the only nonlinear element; valve
        (Child-Langmuir, param ``k`` [A/V^1.5]) or silicon (Shockley, params
@@ -28,6 +28,13 @@ the same circuit): a capacitance ``JUNCTION_CAPACITANCE`` and conductance
 ``JUNCTION_CONDUCTANCE`` across every rectifier junction, and a capacitance
 ``NODE_CAPACITANCE`` to ground at nodes that would otherwise have no capacitive
 path to ground (the node between rectifier and choke of a choke-input filter).
+
+A leakage inductance carries a damping resistance in parallel,
+``LEAKAGE_DAMPING * sqrt(l / JUNCTION_CAPACITANCE)``: without it the leakage and
+the junction capacitance ring at hundreds of kHz with almost no damping, a
+resonance no mains-frequency time step can follow. The parallel resistance
+(kilohms) turns it into two fast real decays and takes a current of
+L·(di/dt)/R_p, about a milliampere in an ampere pulse.
 """
 
 from __future__ import annotations
@@ -46,6 +53,8 @@ GROUND = "0"
 JUNCTION_CAPACITANCE = 100e-12
 #: conductance across each rectifier junction [S] (keeps an off junction defined)
 JUNCTION_CONDUCTANCE = 1e-9
+#: damping of the leakage inductance, relative to sqrt(l / JUNCTION_CAPACITANCE)
+LEAKAGE_DAMPING = 0.5
 #: capacitance to ground at nodes without another capacitive path to ground [F]
 NODE_CAPACITANCE = 1e-9
 
@@ -173,18 +182,27 @@ def _topology(design: Design) -> Topology:
         elements.append(Element("C", f"cj{k}", anode, across_b, ("junction_c", k)))
         elements.append(Element("R", f"rj{k}", anode, across_b, ("junction_g", k)))
 
+    def winding(k: int, a: str, b: str, phase: float) -> None:
+        if tr.leakage_h > 0:
+            m = f"m{k}"
+            elements.append(Element("W", f"w{k}", a, m, ("winding", k), phase=phase))
+            elements.append(Element("L", f"ls{k}", m, b, ("leakage", k)))
+            elements.append(Element("R", f"rs{k}", m, b, ("leakage_damping", k)))
+        else:
+            elements.append(Element("W", f"w{k}", a, b, ("winding", k), phase=phase))
+
     if arrangement == "full-wave":
         # center-tapped: two halves in antiphase, the tap at ground
-        elements.append(Element("W", "w1", GROUND, "a1", ("winding", 1), phase=0.0))
-        elements.append(Element("W", "w2", GROUND, "a2", ("winding", 2), phase=np.pi))
+        winding(1, GROUND, "a1", 0.0)
+        winding(2, GROUND, "a2", np.pi)
         junction(1, "a1", out)
         junction(2, "a2", out)
     elif arrangement == "half-wave":
-        elements.append(Element("W", "w1", GROUND, "a1", ("winding", 1), phase=0.0))
+        winding(1, GROUND, "a1", 0.0)
         junction(1, "a1", out)
     elif arrangement == "bridge":
         # single winding from node b1 to node a1; four junctions
-        elements.append(Element("W", "w1", "b1", "a1", ("winding", 1), phase=0.0))
+        winding(1, "b1", "a1", 0.0)
         junction(1, "a1", out)
         junction(2, "b1", out)
         junction(3, GROUND, "a1")
@@ -226,7 +244,7 @@ def _topology(design: Design) -> Topology:
             if n != GROUND and n not in nodes:
                 nodes.append(n)
 
-    _add_node_capacitances(elements, nodes, [out, *rail_nodes], inductive=tr.leakage_h > 0)
+    _add_node_capacitances(elements, nodes, [out, *rail_nodes])
 
     return Topology(
         elements=tuple(elements),
@@ -251,8 +269,8 @@ def _spread(elements: list[Element], reached: set[str], kinds: set[str]) -> None
                 changed = True
 
 
-def _add_node_capacitances(elements: list[Element], nodes: list[str], preferred: list[str],
-                           inductive: bool) -> None:
+def _add_node_capacitances(elements: list[Element], nodes: list[str],
+                           preferred: list[str]) -> None:
     """Add ``NODE_CAPACITANCE`` to ground where the network would be singular.
 
     A node touched by capacitors must reach ground through capacitors (else the
@@ -268,7 +286,7 @@ def _add_node_capacitances(elements: list[Element], nodes: list[str], preferred:
             elements.append(Element("C", f"cp_{n}", n, GROUND, ("node_c", n)))
             grounded.add(n)
             _spread(elements, grounded, {"C"})
-    resistive = {"R"} if inductive else {"R", "W"}
+    resistive = {"R", "W"}
     anchored = grounded | touched | {GROUND}
     _spread(elements, anchored, resistive)
     for n in order:
@@ -285,7 +303,11 @@ def _element_values(design: Design, topo: Topology, case: OperatingCase) -> dict
     for e in topo.elements:
         role = e.role
         if e.kind == "W":
-            vals[e.name] = {"emf": amp, "r": tr.resistance_ohm, "l": tr.leakage_h}
+            vals[e.name] = {"emf": amp, "r": tr.resistance_ohm}
+        elif role[0] == "leakage":
+            vals[e.name] = {"l": tr.leakage_h, "r": 0.0}
+        elif role[0] == "leakage_damping":
+            vals[e.name] = {"r": LEAKAGE_DAMPING * np.sqrt(tr.leakage_h / JUNCTION_CAPACITANCE)}
         elif role[0] == "diode":
             if rect.kind == "valve":
                 vals[e.name] = {"k": rect.perveance}
@@ -315,8 +337,8 @@ def _element_values(design: Design, topo: Topology, case: OperatingCase) -> dict
                 if e.kind == "R":
                     vals[e.name] = {"r": np.inf if case.load == "none" else rail.load_resistance_ohm}
                 else:
-                    current = {"full": rail.current_a, "idle": rail.idle_a, "none": 0.0}[case.load]
-                    vals[e.name] = {"i": current}
+                    loads = {"full": rail.current_a, "idle": rail.idle_a, "none": 0.0}
+                    vals[e.name] = {"i": loads[case.load]}
             else:  # pragma: no cover - every role is listed above
                 raise AssertionError(role)
     return vals

@@ -1,0 +1,337 @@
+"""Periodic steady state of a batch of rectifier supplies: Newton shooting.
+
+Method
+------
+A rectifier supply is a linear time-invariant network driven by the mains and
+closed through a few nonlinear junctions. Its LC and RC sections have time
+constants of seconds, so integrating until the transient dies out costs hundreds
+of mains periods. Instead we solve for the state x0 at the start of a period
+that the period map P returns unchanged, x0 = P(x0), by Newton's method
+("shooting"):
+
+1. The linear part is discretised exactly (:func:`statespace.discretize`), with
+   the junction currents linear over each of ``steps`` equal steps per period.
+2. One period is stepped; at each step the junction currents at the step's end
+   are found by Newton's method on the few junction voltages (implicit in the
+   junction law, hence stable for the stiff junction and node capacitances).
+3. Alongside, the sensitivity of the state to x0 is carried through every step
+   (the chain rule through the exact linear map and the junction law); after a
+   period it is the monodromy matrix, and Newton's update solves
+   (I - M) dx = P(x0) - x0.
+4. The Newton step is damped per design when the residual grows.
+
+Because step 1 is exact and the steady state is a fixed point of the very map a
+long transient would iterate, the result equals the long-run steady state of the
+discretised circuit; the remaining error is that of the first-order hold on the
+junction currents, second order in the step. All of it runs on whole batches
+as arrays, one Python loop over the steps of a period.
+
+References
+----------
+.. [1] T. J. Aprille, T. N. Trick, "Steady-state analysis of nonlinear circuits
+   with periodic inputs", Proc. IEEE 60(1), 108-114 (1972).
+.. [2] K. S. Kundert, J. K. White, A. Sangiovanni-Vincentelli, *Steady-State
+   Methods for Simulating Analog and Microwave Circuits*, Kluwer (1990), ch. 7.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .devices import junction, limit_step
+from .netlist import GROUND
+from .statespace import Discrete, StateSpace, discretize
+
+#: default number of steps per mains period
+STEPS_PER_PERIOD = 512
+
+
+@dataclass
+class SteadyState:
+    """Steady state of a batch over one period, sampled at steps+1 instants (k = 0..steps)."""
+
+    ss: StateSpace
+    disc: Discrete
+    x: np.ndarray  # (steps + 1, B, nx)
+    u: np.ndarray  # (steps + 1, B, P) junction currents
+    y: np.ndarray  # (steps + 1, B, P) junction voltages
+    s: np.ndarray  # (steps + 1, 3) oscillator (same for every design)
+    converged: np.ndarray  # (B,) bool
+    iterations: np.ndarray  # (B,) int
+    residual: np.ndarray  # (B,) relative energy-norm residual
+
+    @property
+    def steps(self) -> int:
+        return self.x.shape[0] - 1
+
+
+def _solve_small(J: np.ndarray, r: np.ndarray) -> np.ndarray:
+    """Solve J z = r for stacks of tiny systems: J (..., P, P), r (..., P)."""
+    P = J.shape[-1]
+    if P == 1:
+        return r / J[..., 0, :]
+    if P == 2:
+        a, b, c, d = J[..., 0, 0], J[..., 0, 1], J[..., 1, 0], J[..., 1, 1]
+        det = a * d - b * c
+        return np.stack([(d * r[..., 0] - b * r[..., 1]) / det,
+                         (a * r[..., 1] - c * r[..., 0]) / det], axis=-1)
+    return np.linalg.solve(J, r[..., None])[..., 0]
+
+
+def solve_junctions(b: np.ndarray, Z: np.ndarray, y0: np.ndarray, law: str,
+                    params: dict[str, np.ndarray], vscale: np.ndarray,
+                    max_iter: int = 60) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Solve y = b + Z f(y) for the junction voltages y of one step.
+
+    Parameters
+    ----------
+    b : (B, P) junction voltages with zero junction current at the step's end [V]
+    Z : (B, P, P) their sensitivity to the junction currents [ohm]
+    y0 : (B, P) starting guess [V]
+    vscale : (B,) a voltage scale of each design for the tolerance [V]
+
+    Returns
+    -------
+    y, f(y), f'(y) with shapes (B, P).
+    """
+    y = y0
+    tol = 1e-10 * vscale[:, None]
+    eye = np.eye(Z.shape[-1])
+    for _ in range(max_iter):
+        i, g = junction(law, y, params)
+        res = y - b - np.einsum("bpq,bq->bp", Z, i)
+        J = eye - Z * g[:, None, :]
+        y_new = limit_step(law, y - _solve_small(J, res), y, params)
+        done = np.all(np.abs(y_new - y) <= tol)
+        y = y_new
+        if done:
+            break
+    i, g = junction(law, y, params)
+    return y, i, g
+
+
+def _weighted_norm(w: np.ndarray, v: np.ndarray) -> np.ndarray:
+    return np.sqrt(np.sum((w * v) ** 2, axis=-1))
+
+
+class _Stepper:
+    """One-period stepping of a (sub)batch, with optional monodromy."""
+
+    def __init__(self, ss: StateSpace, disc: Discrete, steps: int):
+        self.law = ss.circuit.topology.law
+        self.params_all = ss.port_params
+        self.steps = steps
+        k = np.arange(steps + 1)
+        phase = 2.0 * np.pi * k / steps
+        self.s = np.stack([np.sin(phase), np.cos(phase), np.ones_like(phase)], axis=1)
+        self.ss, self.disc = ss, disc
+        # oscillator forcing of every step: (steps, B, nx)
+        self.forcing_all = np.einsum("bij,kj->kbi", disc.Phis, self.s[:-1])
+        self.Z_all = ss.Cy @ disc.G1  # (B, P, P)
+        self.vscale_all = _max_emf(ss)  # voltage scale of each design
+
+    def run(self, x0: np.ndarray, sel: np.ndarray, sens: bool):
+        ss, disc = self.ss, self.disc
+        Phi, G0, G1, Cy = disc.Phi[sel], disc.G0[sel], disc.G1[sel], ss.Cy[sel]
+        Z = self.Z_all[sel]
+        params = {p: v[sel] for p, v in self.params_all.items()}
+        vscale = self.vscale_all[sel]
+        forcing = self.forcing_all[:, sel]
+        law = self.law
+        B, nx = x0.shape
+        P = Cy.shape[1]
+        xs = np.empty((self.steps + 1, B, nx))
+        us = np.empty((self.steps + 1, B, P))
+        ys = np.empty((self.steps + 1, B, P))
+        x = x0
+        y = np.einsum("bpi,bi->bp", Cy, x)
+        u, g = junction(law, y, params)
+        xs[0], us[0], ys[0] = x, u, y
+        S = None
+        if sens:
+            S = np.broadcast_to(np.eye(nx), (B, nx, nx)).copy()
+            W = g[:, :, None] * Cy
+        eyeP = np.eye(P)
+        for k in range(self.steps):
+            xp = np.einsum("bij,bj->bi", Phi, x) + forcing[k] + np.einsum("bip,bp->bi", G0, u)
+            b = np.einsum("bpi,bi->bp", Cy, xp)
+            y, u, g = solve_junctions(b, Z, y, law, params, vscale)
+            x = xp + np.einsum("bip,bp->bi", G1, u)
+            xs[k + 1], us[k + 1], ys[k + 1] = x, u, y
+            if sens:
+                R = Phi @ S + G0 @ (W @ S)
+                W = g[:, :, None] * Cy
+                WR = W @ R
+                K = eyeP - W @ G1
+                S = R + G1 @ np.linalg.solve(K, WR)
+        return xs, us, ys, S
+
+
+def _max_emf(ss: StateSpace) -> np.ndarray:
+    c = ss.circuit
+    emfs = [c.value(e.name, "emf") for e in c.topology.elements if e.kind == "W"]
+    return np.max(np.stack(emfs), axis=0)
+
+
+def initial_guess(ss: StateSpace) -> np.ndarray:
+    """A DC estimate of the state to start Newton from, shape (B, nx).
+
+    The rectifier and winding are replaced by a Thevenin source at the rectifier
+    output: about the emf peak behind a few times the winding resistance for a
+    capacitor input, the mean of the rectified sine behind the winding
+    resistance for a choke input (the textbook limits of both filters). The
+    filter is then solved at DC (capacitors open, chokes as their resistance).
+    """
+    c = ss.circuit
+    topo = c.topology
+    B = c.size
+    front = {"winding", "leakage", "leakage_damping", "diode", "diode_r", "junction_c",
+             "junction_g", "node_c"}
+    filt = [e for e in topo.elements if e.role and e.role[0] not in front]
+    fnodes = sorted({n for e in filt for n in (e.a, e.b) if n != GROUND}
+                    | {topo.rectifier_node}, key=topo.nodes.index)
+    fi = {n: i for i, n in enumerate(fnodes)}
+    nf = len(fnodes)
+    G = np.zeros((B, nf, nf))
+    inj = np.zeros((B, nf))
+    for e in filt:
+        if e.kind == "R":
+            _stamp_dc(G, fi, e.a, e.b, 1.0 / c.value(e.name, "r"))
+        elif e.kind == "L":
+            _stamp_dc(G, fi, e.a, e.b, 1.0 / np.maximum(c.value(e.name, "r"), 1e-3))
+        elif e.kind == "J":
+            for node, sgn in ((e.a, -1.0), (e.b, 1.0)):
+                if node != GROUND:
+                    inj[:, fi[node]] += sgn * c.value(e.name, "i")
+    windings = [e for e in topo.elements if e.kind == "W"]
+    emf = np.max(np.stack([c.value(e.name, "emf") for e in windings]), axis=0)
+    rw = np.mean(np.stack([c.value(e.name, "r") for e in windings]), axis=0)
+    cap_input = any(e.kind == "C" and e.role[0] == "cap" and topo.rectifier_node in (e.a, e.b)
+                    for e in topo.elements) or any(
+        e.role[0] == "esr" and topo.rectifier_node in (e.a, e.b) for e in topo.elements)
+    total_i = np.sum(inj * 0 - np.minimum(inj, 0), axis=1)  # stage currents drawn
+    if topo.law == "valve":
+        k = c.value(next(e.name for e in topo.elements if e.kind == "D"), "k")
+        peak_i = (4.0 if cap_input else 1.0) * np.maximum(total_i, 1e-3)
+        drop = (peak_i / k) ** (2.0 / 3.0)
+    else:
+        drop = 0.8 * np.ones(B)
+    if topo.arrangement == "bridge":
+        drop = 2.0 * drop
+    if cap_input:
+        v0 = emf - drop
+        r0 = 3.0 * rw
+    else:
+        v0 = (1.0 if topo.arrangement == "half-wave" else 2.0) * emf / np.pi - drop
+        r0 = rw
+    ir = fi[topo.rectifier_node]
+    G[:, ir, ir] += 1.0 / r0
+    inj[:, ir] += v0 / r0
+    v = np.linalg.solve(G, inj[..., None])[..., 0]
+
+    x0 = np.zeros((B, ss.nx))
+    # map node voltages and choke currents onto the states (Rx is identity on them)
+    for n, j in fi.items():
+        row = ss.node_index[n]
+        col = np.flatnonzero(ss.Rx[0, row] == 1.0)
+        if len(col) == 1 and np.count_nonzero(ss.Rx[0, row]) == 1:
+            x0[:, col[0]] = v[:, j]
+    for e in filt:
+        if e.kind == "L":
+            row = ss.inductor_index[e.name]
+            col = np.flatnonzero(ss.Rx[0, row] == 1.0)[0]
+            va = 0 if e.a == GROUND else v[:, fi[e.a]]
+            vb = 0 if e.b == GROUND else v[:, fi[e.b]]
+            x0[:, col] = (va - vb) / np.maximum(c.value(e.name, "r"), 1e-3)
+    # anode nodes sit near the rectifier output at the start of a period
+    for e in topo.elements:
+        if e.kind == "D" and e.b in fi and e.a in ss.node_index:
+            row = ss.node_index[e.a]
+            col = np.flatnonzero(ss.Rx[0, row] == 1.0)
+            if len(col) == 1:
+                x0[:, col[0]] = v[:, fi[e.b]] * 0.0
+    return x0
+
+
+def _stamp_dc(G, fi, a, b, g):
+    ia, ib = fi.get(a), fi.get(b)
+    if ia is not None:
+        G[:, ia, ia] += g
+    if ib is not None:
+        G[:, ib, ib] += g
+    if ia is not None and ib is not None:
+        G[:, ia, ib] -= g
+        G[:, ib, ia] -= g
+
+
+def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: float = 1e-9,
+                          max_iter: int = 40, x0: np.ndarray | None = None) -> SteadyState:
+    """Find the periodic steady state of every design of the batch (see module docstring).
+
+    Parameters
+    ----------
+    ss : StateSpace
+        The batch's linear model.
+    steps : int
+        Steps per mains period.
+    tol : float
+        Convergence threshold on the residual |P(x0) - x0| relative to |x0|, both
+        in the energy norm (each state weighted by the square root of the
+        capacitance or inductance holding it).
+    max_iter : int
+        Newton iterations at most; designs that have not converged are flagged.
+    x0 : array, optional
+        Starting state (B, nx); by default :func:`initial_guess`.
+    """
+    B, nx = ss.A.shape[0], ss.nx
+    h = 1.0 / (ss.circuit.frequency_hz * steps)
+    disc = discretize(ss, h)
+    stepper = _Stepper(ss, disc, steps)
+    x = initial_guess(ss) if x0 is None else x0.copy()
+    w = ss.weights
+    P = ss.Cy.shape[1]
+
+    best_x = x.copy()
+    best_r = np.full(B, np.inf)
+    step = np.zeros((B, nx))
+    lam = np.ones(B)
+    converged = np.zeros(B, dtype=bool)
+    iterations = np.zeros(B, dtype=int)
+    residual = np.full(B, np.inf)
+    out_x = np.empty((steps + 1, B, nx))
+    out_u = np.empty((steps + 1, B, P))
+    out_y = np.empty((steps + 1, B, P))
+    trial = x.copy()
+    active = np.arange(B)
+    eye = np.eye(nx)
+    for _it in range(max_iter):
+        xs, us, ys, S = stepper.run(trial[active], active, sens=True)
+        r = xs[-1] - xs[0]
+        rel = _weighted_norm(w[active], r) / np.maximum(_weighted_norm(w[active], xs[0]), 1e-300)
+        iterations[active] += 1
+        improved = rel < best_r[active]
+        # accept improved trials; the others go back towards the best point
+        acc = active[improved]
+        best_r[acc] = rel[improved]
+        best_x[acc] = trial[acc]
+        residual[acc] = rel[improved]
+        out_x[:, acc], out_u[:, acc] = xs[:, improved], us[:, improved]
+        out_y[:, acc] = ys[:, improved]
+        done = improved & (rel < tol)
+        converged[active[done]] = True
+        # Newton step from accepted points
+        go = improved & ~done
+        if np.any(go):
+            Mg = S[go]
+            step[active[go]] = np.linalg.solve(Mg - eye, -r[go][..., None])[..., 0]
+            lam[active[go]] = 1.0
+        back = ~improved
+        lam[active[back]] *= 0.5
+        keep = go | (back & (lam[active] > 1e-3))
+        active = active[keep]
+        if active.size == 0:
+            break
+        trial[active] = best_x[active] + lam[active, None] * step[active]
+    return SteadyState(ss, disc, out_x, out_u, out_y, stepper.s, converged, iterations, residual)
