@@ -80,7 +80,8 @@ def shockley(v: np.ndarray, isat: np.ndarray, nvt: np.ndarray) -> tuple[np.ndarr
     return i, g
 
 
-def junction(law: str, v: np.ndarray, params: dict[str, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+def junction(law: str, v: np.ndarray,
+             params: dict[str, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
     """Dispatch to the junction law of a topology ("valve" or "silicon")."""
     if law == "valve":
         return child_langmuir(v, params["k"])

@@ -182,7 +182,7 @@ def _topology(design: Design) -> Topology:
         elements.append(Element("C", f"cj{k}", anode, across_b, ("junction_c", k)))
         elements.append(Element("R", f"rj{k}", anode, across_b, ("junction_g", k)))
 
-    def winding(k: int, a: str, b: str, phase: float) -> None:
+    def add_winding(k: int, a: str, b: str, phase: float) -> None:
         if tr.leakage_h > 0:
             m = f"m{k}"
             elements.append(Element("W", f"w{k}", a, m, ("winding", k), phase=phase))
@@ -193,16 +193,16 @@ def _topology(design: Design) -> Topology:
 
     if arrangement == "full-wave":
         # center-tapped: two halves in antiphase, the tap at ground
-        winding(1, GROUND, "a1", 0.0)
-        winding(2, GROUND, "a2", np.pi)
+        add_winding(1, GROUND, "a1", 0.0)
+        add_winding(2, GROUND, "a2", np.pi)
         junction(1, "a1", out)
         junction(2, "a2", out)
     elif arrangement == "half-wave":
-        winding(1, GROUND, "a1", 0.0)
+        add_winding(1, GROUND, "a1", 0.0)
         junction(1, "a1", out)
     elif arrangement == "bridge":
         # single winding from node b1 to node a1; four junctions
-        winding(1, "b1", "a1", 0.0)
+        add_winding(1, "b1", "a1", 0.0)
         junction(1, "a1", out)
         junction(2, "b1", out)
         junction(3, GROUND, "a1")
@@ -335,7 +335,8 @@ def _element_values(design: Design, topo: Topology, case: OperatingCase) -> dict
                 vals[e.name] = {"c": rail.capacitor.capacitance_f}
             elif role[0] == "load":
                 if e.kind == "R":
-                    vals[e.name] = {"r": np.inf if case.load == "none" else rail.load_resistance_ohm}
+                    cold = case.load == "none"
+                    vals[e.name] = {"r": np.inf if cold else rail.load_resistance_ohm}
                 else:
                     loads = {"full": rail.current_a, "idle": rail.idle_a, "none": 0.0}
                     vals[e.name] = {"i": loads[case.load]}
