@@ -1,0 +1,1 @@
+"""Reports: console tables, JSON and other exports, all functions of figures."""

@@ -1,0 +1,106 @@
+"""Console report of an evaluation (rich tables). Presentation only: figures in, text out."""
+
+from __future__ import annotations
+
+import math
+
+from ..analysis import regulation_pct
+from ..design import Design
+from ..figures import Figures
+from ..units import format_si
+from .cautions import CAUTION_LINES
+
+
+def _pct(x: float | None) -> str:
+    return "—" if x is None or not math.isfinite(x) else f"{x:+.1f} %"
+
+
+def _ratio_cell(used: float, rating: float | None, unit: str) -> str:
+    """'used / rating (share)' with a colour telling whether it is within the rating."""
+    if rating is None:
+        return f"{format_si(used, unit)} (no rating given)"
+    share = used / rating if rating > 0 else math.inf
+    style = "green" if share <= 0.8 else ("yellow" if share <= 1.0 else "bold red")
+    return f"[{style}]{format_si(used, unit)} of {format_si(rating, unit)} ({100 * share:.0f} %)[/]"
+
+
+def rails_table(design: Design, full: Figures, idle: Figures | None):
+    from rich.table import Table
+
+    reg = regulation_pct(full, idle) if idle is not None else [None] * len(full.rails)
+    t = Table(title="Rails (nominal mains, full-signal load)", title_justify="left")
+    for col, just in (("rail", "left"), ("DC", "right"), ("target", "right"),
+                      ("off target", "right"), ("hum rms", "right"), ("hum p-p", "right"),
+                      ("allowed", "right"), ("hum margin", "right"), ("idle→full", "right")):
+        t.add_column(col, justify=just)
+    for rail, fig, g in zip(design.rails, full.rails, reg, strict=True):
+        target = dev = allowed = margin = "—"
+        if rail.voltage_v is not None:
+            target = f"{format_si(rail.voltage_v, 'V')} ±{100 * rail.tolerance:.0f} %"
+            d = (fig.dc_v - rail.voltage_v) / rail.voltage_v
+            style = "green" if abs(d) <= rail.tolerance else "bold red"
+            dev = f"[{style}]{100 * d:+.1f} %[/]"
+        if rail.hum_v is not None:
+            allowed = format_si(rail.hum_v, "V")
+            m = 20 * math.log10(rail.hum_v / max(fig.ripple_rms_v, 1e-15))
+            style = "green" if m >= 0 else "bold red"
+            margin = f"[{style}]{m:+.1f} dB[/]"
+        t.add_row(rail.name, format_si(fig.dc_v, "V", 4), target, dev,
+                  format_si(fig.ripple_rms_v, "V"), format_si(fig.ripple_pp_v, "V"),
+                  allowed, margin, _pct(None if g is None else -g))
+    return t
+
+
+def stresses_table(design: Design, full: Figures):
+    from rich.table import Table
+
+    t = Table(title="Part stresses (nominal case)", title_justify="left")
+    t.add_column("part")
+    t.add_column("stress")
+    t.add_column("used against rating")
+    rect = design.rectifier
+    t.add_row("rectifier", "peak current per anode/diode",
+              _ratio_cell(full.rectifier.peak_a, rect.max_peak_current_a, "A"))
+    t.add_row("", "rms / average per anode/diode",
+              f"{format_si(full.rectifier.rms_a, 'A')} / {format_si(full.rectifier.avg_a, 'A')}")
+    t.add_row("", "dissipation per anode/diode", format_si(full.rectifier.power_w, "W"))
+    first_cap = design.rails[0].capacitor
+    if rect.max_reservoir_f is not None and first_cap is not None \
+            and first_cap.capacitance_f is not None:
+        t.add_row("", "reservoir capacitance",
+                  _ratio_cell(first_cap.capacitance_f, rect.max_reservoir_f, "F"))
+    total_dc = sum(r.load_a for r in full.rails)
+    t.add_row("transformer", "DC load current",
+              _ratio_cell(total_dc, design.transformer.rated_current_a, "A"))
+    t.add_row("", "rms current per half-winding", format_si(full.transformer.rms_a, "A"))
+    t.add_row("", "copper loss", format_si(full.transformer.power_w, "W"))
+    for rail, fig in zip(design.rails, full.rails, strict=True):
+        link = rail.link
+        if link.kind == "resistor":
+            t.add_row(f"{rail.name}: resistor {format_si(link.resistance_ohm, 'Ω')}",
+                      "dissipation", _ratio_cell(fig.link_power_w, link.power_w, "W"))
+        elif link.kind == "choke":
+            t.add_row(f"{rail.name}: choke {format_si(link.inductance_h, 'H')}",
+                      "DC current", _ratio_cell(abs(fig.link_dc_a), link.current_rating_a, "A"))
+        cap = rail.capacitor
+        if cap is not None:
+            name = f"{rail.name}: capacitor {format_si(cap.capacitance_f, 'F')}"
+            t.add_row(name, "highest voltage (nominal)",
+                      _ratio_cell(fig.peak_v, cap.voltage_rating_v, "V"))
+            t.add_row("", "ripple current rms",
+                      _ratio_cell(fig.cap_ripple_rms_a or 0.0, cap.ripple_rating_a, "A"))
+    return t
+
+
+def render_evaluation(console, design: Design, full: Figures, idle: Figures | None) -> None:
+    """Print the evaluation of one design."""
+    from rich.panel import Panel
+
+    console.rule(f"[bold]{design.title}[/]  ({design.source})")
+    if not full.converged:
+        console.print(f"[bold red]The steady-state solver did not converge for this design "
+                      f"(residual {full.residual:.1e} after {full.iterations} iterations); "
+                      "treat its figures with suspicion.[/]")
+    console.print(rails_table(design, full, idle))
+    console.print(stresses_table(design, full))
+    console.print(Panel("\n".join(CAUTION_LINES), title="Caution", border_style="yellow"))
