@@ -1,0 +1,39 @@
+"""supplydesign: design the HT (B+) supply of valve amplifiers.
+
+Public API (imported lazily so that ``import supplydesign`` stays light)::
+
+    from supplydesign import load_design, evaluate, IDLE
+    design = load_design("amp.toml")
+    full, = evaluate([design])
+
+HT supplies carry lethal voltages; no figure of this package makes a design safe.
+"""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+_LAZY = {
+    "load_design": ("supplydesign.io.designfile", "load_design"),
+    "dump_design": ("supplydesign.io.tomlwrite", "dump_design"),
+    "save_design": ("supplydesign.io.tomlwrite", "save_design"),
+    "evaluate": ("supplydesign.analysis", "evaluate"),
+    "IDLE": ("supplydesign.analysis", "IDLE"),
+    "OperatingCase": ("supplydesign.circuit.netlist", "OperatingCase"),
+    "NOMINAL": ("supplydesign.circuit.netlist", "NOMINAL"),
+    "Design": ("supplydesign.design", "Design"),
+    "Figures": ("supplydesign.figures", "Figures"),
+    "UserError": ("supplydesign.errors", "UserError"),
+    "load_catalog": ("supplydesign.parts", "load_catalog"),
+}
+
+__all__ = sorted(_LAZY)
+
+
+def __getattr__(name: str):
+    if name in _LAZY:
+        import importlib
+
+        module, attr = _LAZY[name]
+        return getattr(importlib.import_module(module), attr)
+    raise AttributeError(f"module 'supplydesign' has no attribute {name!r}")
