@@ -56,6 +56,7 @@ class Quantity:
     positive: bool = True  # True: > 0; False: >= 0
     low: float | None = None  # inclusive bounds beyond the per-dimension ones
     high: float | None = None
+    example: str | None = None  # shown when the key is missing; default from units.DIMENSIONS
 
 
 #: largest believable magnitude per dimension (SI); beyond it a value is a typo
@@ -76,14 +77,14 @@ MAINS_KEYS = {
     "high": Quantity("high", "fraction", positive=False, high=0.5),
 }
 TRANSFORMER_KEYS = {
-    "open_circuit": Quantity("open_circuit_v", "voltage"),
-    "resistance": Quantity("resistance_ohm", "resistance", positive=False),
+    "open_circuit": Quantity("open_circuit_v", "voltage", example="330 V"),
+    "resistance": Quantity("resistance_ohm", "resistance", positive=False, example="95 ohm"),
     "leakage": Quantity("leakage_h", "inductance", positive=False),
     "rated_current": Quantity("rated_current_a", "current"),
 }
 VALVE_KEYS = {
-    "drop": Quantity("drop_v", "voltage"),
-    "drop_current": Quantity("drop_current_a", "current"),
+    "drop": Quantity("drop_v", "voltage", example="17 V"),
+    "drop_current": Quantity("drop_current_a", "current", example="250 mA"),
 }
 SILICON_KEYS = {
     "saturation_current": Quantity("saturation_current_a", "current", high=1e-3),
@@ -102,7 +103,7 @@ RESISTOR_KEYS = {
 }
 CHOKE_KEYS = {
     "inductance": Quantity("inductance_h", "inductance"),
-    "resistance": Quantity("resistance_ohm", "resistance", positive=False),
+    "resistance": Quantity("resistance_ohm", "resistance", positive=False, example="150 ohm"),
     "current_rating": Quantity("current_rating_a", "current"),
 }
 CAPACITOR_KEYS = {
@@ -122,6 +123,9 @@ RAIL_KEYS = {
 #: keys any catalog-able part may carry: its id and its price (a bare number, dimensionless)
 PRICE_KEYS = {"price": Quantity("price", "number", positive=False)}
 PART_KEYS = ("part", "currency", *PRICE_KEYS)
+
+CHOICE_KEYS = {"winding": WINDINGS, "kind": RECTIFIER_KINDS, "arrangement": ARRANGEMENTS}
+ALL_QUANTITY_KEYS = (TRANSFORMER_KEYS, VALVE_KEYS, RESISTOR_KEYS, CHOKE_KEYS, CAPACITOR_KEYS)
 
 TOP_KEYS = ("title", "catalog", "mains", "transformer", "rectifier", "rail")
 RAIL_OTHER_KEYS = ("name", "from", "link", "capacitor")
@@ -228,6 +232,18 @@ def _suggest(word: str, allowed) -> str:
     if near:
         return f"did you mean {near[0]!r}?"
     return "expected one of " + ", ".join(repr(a) for a in allowed)
+
+
+def _example(key: str) -> str:
+    """``key = example`` for a missing-key message."""
+    if key in CHOICE_KEYS:
+        return f"{key} = " + " or ".join(f'"{c}"' for c in CHOICE_KEYS[key])
+    for specs in ALL_QUANTITY_KEYS:
+        if key in specs:
+            spec = specs[key]
+            example = spec.example or DIMENSIONS[spec.dimension][1].split("'")[1]
+            return f'{key} = "{example}"'
+    return key
 
 
 def _ordinal(i: int) -> str:
@@ -383,7 +399,7 @@ class _Reader:
         if part is not None:
             raise self.fail(f"{where}.{missing[0]}", f"the catalog gives no {missing[0]} for "
                                                      f"part {part!r}; expected it written here")
-        raise self.fail(f"{where}.{missing[0]}", f"missing key: expected {missing[0]}")
+        raise self.fail(f"{where}.{missing[0]}", f"missing key: expected {_example(missing[0])}")
 
     # ---- sections
 

@@ -49,9 +49,6 @@ OUT_UNITS: dict[str, tuple[tuple[str, float], ...]] = {
     "power": (("W", 1.0), ("kW", 1e3)),
     "fraction": (("%", 1e-2),),
 }
-SI_UNIT = {"voltage": "V", "current": "A", "resistance": "ohm", "capacitance": "F",
-           "inductance": "H", "frequency": "Hz", "power": "W", "fraction": ""}
-
 SILICON_DEFAULTS = {"saturation_current_a": SILICON_SATURATION_A,
                     "emission": SILICON_EMISSION,
                     "series_resistance_ohm": SILICON_SERIES_OHM}
@@ -63,7 +60,7 @@ def _number(x: float) -> str:
         text = f"{x:.{digits}g}"
         if "e" not in text and float(text) == x:
             return text
-    return repr(x)
+    return repr(x)  # exponent form, which pint reads too
 
 
 def format_quantity(value: float, dimension: str, *, sign: bool = False) -> str:
@@ -83,10 +80,7 @@ def format_quantity(value: float, dimension: str, *, sign: bool = False) -> str:
     for u, s in units:
         if abs(value) >= s * (1 - 1e-9):
             unit, size = u, s
-    scaled = value / size
-    text = _number(scaled)
-    if "e" in text:  # too small or large for the prefixes: plain SI
-        unit, text = SI_UNIT[dimension], repr(value)
+    text = _number(value / size)  # exponent form if too small or large for the prefixes
     if sign and value >= 0:
         text = "+" + text
     return f"{text} {unit}".rstrip()
