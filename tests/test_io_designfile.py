@@ -279,9 +279,22 @@ def test_dump_refuses_a_tree_the_file_cannot_express(tmp_path):
 def test_dump_uses_readable_units(tmp_path):
     d = load_design(write(tmp_path, BASE))
     text = dump_design(d)
-    for fragment in ('"47 uF"', '"10 kohm"', '"10 H"', '"150 mA"', '"420 V"', '"10 %"',
+    for fragment in ('"47 uF"', '"33 uF"', '"10 kohm"', '"10 H"', '"150 mA"', '"420 V"', '"10 %"',
                      '"4 mH"', '"500 mV"', '"1 W"'):
         assert fragment in text
+
+
+@pytest.mark.parametrize("value,dim,text", [
+    (1e-5, "capacitance", "10 uF"), (47e-6, "capacitance", "47 uF"),
+    (4.7e-10, "capacitance", "470 pF"), (2200.0, "resistance", "2.2 kohm"),
+    (0.05, "resistance", "0.05 ohm"), (0.15, "current", "150 mA"), (5e-9, "current", "5 nA"),
+    (420.0, "voltage", "420 V"), (0.0005, "voltage", "0.5 mV"),
+    (10.0, "inductance", "10 H"), (0.004, "inductance", "4 mH"), (0.1, "fraction", "10 %"),
+    (0.5, "power", "0.5 W"), (60.0, "frequency", "60 Hz"), (0.0, "voltage", "0 V"),
+    (0.0, "fraction", "0 %"),
+])
+def test_format_quantity_text(value, dim, text):
+    assert format_quantity(value, dim) == text
 
 
 awkward = st.floats(min_value=1e-3, max_value=1e3, allow_nan=False, allow_infinity=False)
@@ -356,7 +369,9 @@ class FakeCatalog:
                               "price": 3.2, "currency": "EUR", "note": "ignored"}},
         "choke": {"L10": {"inductance_h": 10.0, "resistance_ohm": 160.0,
                           "current_rating_a": 0.15, "price": 24.0, "currency": "EUR"}},
-        "resistor": {"R10K": {"resistance_ohm": 1e4, "power_w": 2.0}},
+        # like the project's catalog: a resistor part is a rating and a price, no value
+        "resistor": {"R2W": {"kind": "resistor", "power_w": 2.0, "price": 0.3, "currency": "EUR",
+                             "part": "R2W"}},
         "transformer": {"T1": {"winding": "center-tapped", "open_circuit_v": 340.0,
                                "resistance_ohm": 88.0, "leakage_h": 0.006,
                                "rated_current_a": 0.2}},
@@ -380,14 +395,14 @@ PARTS = edited('{ capacitance = "47 uF", esr = "0.5 ohm", voltage = "450 V" }',
 PARTS = edited('{ kind = "choke", inductance = "10 H", resistance = "150 ohm" }',
                '{ kind = "choke", part = "L10" }', PARTS)
 PARTS = edited('{ kind = "resistor", resistance = "10 kohm", power = "1 W" }',
-               '{ kind = "resistor", part = "R10K" }', PARTS)
+               '{ kind = "resistor", part = "R2W", resistance = "10 kohm" }', PARTS)
 
 
 def test_catalog_fills_parts_and_file_values_override(tmp_path):
     cat = FakeCatalog()
     d = load_design(write(tmp_path, PARTS), catalog=cat)
     assert set(cat.calls) == {("transformer", "T1"), ("rectifier", "V1"), ("capacitor", "C47"),
-                              ("choke", "L10"), ("resistor", "R10K")}
+                              ("choke", "L10"), ("resistor", "R2W")}
     assert d.transformer.part == "T1" and d.transformer.open_circuit_v == 340.0
     assert d.rectifier.kind == "valve" and d.rectifier.drop_v == 20.0
     cap = d.rails[0].capacitor
@@ -396,10 +411,24 @@ def test_catalog_fills_parts_and_file_values_override(tmp_path):
     assert d.rails[1].link == Link(kind="choke", inductance_h=10.0, resistance_ohm=160.0,
                                    current_rating_a=0.15, part="L10", price=24.0,
                                    currency="EUR")
-    assert d.rails[2].link.resistance_ohm == 1e4 and d.rails[2].link.part == "R10K"
+    assert d.rails[2].link == Link(kind="resistor", resistance_ohm=1e4, power_w=2.0, part="R2W",
+                                   price=0.3, currency="EUR")
     # written back with ids and values, so it reads the same without the catalog
     again = round_trip(d, tmp_path)
-    assert same(again, d, rel=0.0) and 'part = "C47"' in dump_design(d)
+    # catalog floats come back to a few ulps ("47 uF" read by pint), within the 1e-12 contract
+    assert same(again, d) and 'part = "C47"' in dump_design(d)
+
+
+def test_resistor_part_without_value_is_open(tmp_path):
+    text = edited('part = "R2W", resistance = "10 kohm"', 'part = "R2W"', PARTS)
+    path = write(tmp_path, text)
+    d = load_design(path, brief=True, catalog=FakeCatalog())
+    link = d.rails[2].link
+    assert link.is_open and link.part == "R2W" and link.power_w == 2.0
+    assert same(round_trip(d, tmp_path, brief=True, catalog=FakeCatalog()), d)
+    with pytest.raises(UserError, match="still open") as err:
+        load_design(path, catalog=FakeCatalog())
+    assert err.value.key == 'rail "preamp".link.resistance'
 
 
 def test_part_without_catalog(tmp_path):
@@ -503,7 +532,7 @@ MALFORMED = [
      '"center-tapped" or "single"'),
     ("choose-capacitor", S, '"choose"', f"{TR}.capacitor", "still open"),
     ("open-resistor", '{ kind = "resistor", resistance = "10 kohm", power = "1 W" }',
-     '{ kind = "resistor" }', 'rail "preamp".link', "run synth on a brief"),
+     '{ kind = "resistor" }', 'rail "preamp".link.resistance', "run synth on a brief"),
     ("choose-link", CHOKE, '"choose"', f"{TR}.link", "still open"),
     ("choose-transformer", TRANSFORMER, '[transformer]\nchoose = ["T1"]\n\n',
      "transformer.choose", "still open"),

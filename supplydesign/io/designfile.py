@@ -588,10 +588,13 @@ class _Reader:
         needed = {"resistance_ohm": "resistance"} if kind == "resistor" else \
             {"inductance_h": "inductance", "resistance_ohm": "resistance"}
         given = [k for f, k in needed.items() if f in values]
-        if part is not None:
+        if kind == "resistor" and not given and (part is None or self.catalog is not None):
+            # a catalog resistor is a rating and a price; its value is chosen apart
+            self.still_open(f"{key}.resistance", "the resistor value")
+        elif part is not None:
             self.require(values, needed, part, key)
         elif not given:
-            self.still_open(key, f"the {kind} value")
+            self.still_open(key, "the choke")
         elif len(given) < len(needed):
             missing = next(k for k in needed.values() if k not in given)
             raise self.fail(f"{key}.{missing}", f"missing key: expected the choke's {missing} "

@@ -54,13 +54,19 @@ SILICON_DEFAULTS = {"saturation_current_a": SILICON_SATURATION_A,
                     "series_resistance_ohm": SILICON_SERIES_OHM}
 
 
-def _number(x: float) -> str:
-    """Shortest plain decimal (no exponent) that reads back as exactly ``x``, or repr."""
+def _number(x: float, size: float = 1.0) -> str:
+    """Shortest plain decimal ``d`` (no exponent) with ``d * size`` equal to ``x * size``.
+
+    Equal to 1e-14 relative: a few units in the last place, so that a value
+    such as 1e-5 F is written "10 uF" and not "10.000000000000002 uF". Falls
+    back to ``repr`` (an exponent form, which pint reads too).
+    """
+    target = x * size
     for digits in range(1, 18):
         text = f"{x:.{digits}g}"
-        if "e" not in text and float(text) == x:
+        if "e" not in text and abs(float(text) * size - target) <= 1e-14 * abs(target):
             return text
-    return repr(x)  # exponent form, which pint reads too
+    return repr(x)
 
 
 def format_quantity(value: float, dimension: str, *, sign: bool = False) -> str:
@@ -78,9 +84,9 @@ def format_quantity(value: float, dimension: str, *, sign: bool = False) -> str:
     units = OUT_UNITS[dimension]
     unit, size = units[0]
     for u, s in units:
-        if abs(value) >= s * (1 - 1e-9):
+        if abs(value) >= s * (1 - 1e-9) or (value == 0 and s == 1.0):
             unit, size = u, s
-    text = _number(value / size)  # exponent form if too small or large for the prefixes
+    text = _number(value / size, size)
     if sign and value >= 0:
         text = "+" + text
     return f"{text} {unit}".rstrip()
