@@ -210,7 +210,9 @@ def dump_design(design: Design, *, comments: Mapping[str, str] | None = None,
     Notes
     -----
     Values filled from a parts catalog are written next to their ``part`` id, so
-    the file reads the same without the catalog.
+    the file reads the same without the catalog. A rectifier ``part`` read
+    without a catalog (a brief) holds the dataclass defaults for ``kind`` and
+    ``arrangement``, which are written as if given: resolve parts before dumping.
     """
     comments = dict(comments or {})
     sections = {"[mains]", "[transformer]", "[rectifier]"}
