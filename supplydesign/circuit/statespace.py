@@ -50,6 +50,7 @@ class StateSpace:
     Ru: np.ndarray  # (B, N + M, P)
     Cy: np.ndarray  # (B, P, nx): junction voltages y = Cy x (every junction node is a state)
     weights: np.ndarray  # (B, nx): sqrt of the energy-storing element of each state
+    slow: np.ndarray  # (ns,) state columns of the filter's own capacitors and inductors
     node_index: dict[str, int]  # node name -> row of xi
     inductor_index: dict[str, int]  # element name -> row of xi
     ports: tuple[Element, ...]  # the D elements, in port order
@@ -182,8 +183,13 @@ def build_state_space(circuit: Circuit) -> StateSpace:
                 row += sgn * Rx[:, idx[node]]
         Cy[:, p] = row
     weights = np.sqrt(np.einsum("bii->bi", Mdd))
-    return StateSpace(circuit, A, Bs, Bu, Rx, Rs, Ru, Cy, weights, idx, ind_idx, ports, omega,
-                      n_dynamic_nodes=int(np.sum(d < N)))
+    # states that can hold memory over a period: capacitors of the filter and every
+    # inductance; the junction and stray node capacitances forget within a step
+    slow_rows = {idx[e.a] for e in topo.elements if e.kind == "C" and e.role[0] == "cap"}
+    slow_rows |= set(ind_idx.values())
+    slow = np.array(sorted(int(np.flatnonzero(Rx[0, r])[0]) for r in slow_rows), dtype=int)
+    return StateSpace(circuit, A, Bs, Bu, Rx, Rs, Ru, Cy, weights, slow, idx, ind_idx, ports,
+                      omega, n_dynamic_nodes=int(np.sum(d < N)))
 
 
 @dataclass

@@ -44,6 +44,8 @@ from .devices import junction, limit_step
 from .netlist import GROUND
 from .statespace import Discrete, StateSpace, discretize
 
+#: junction Newton iterations stop when the last step changes a current by less [A]
+CURRENT_TOLERANCE_A = 1e-9
 #: default number of steps per mains period
 STEPS_PER_PERIOD = 512
 
@@ -68,16 +70,22 @@ class SteadyState:
 
 
 def _solve_small(J: np.ndarray, r: np.ndarray) -> np.ndarray:
-    """Solve J z = r for stacks of tiny systems: J (..., P, P), r (..., P)."""
+    """Solve J z = r for stacks of tiny systems: J (B, P, P), r (B, P) or (B, P, K)."""
+    vec = r.ndim == J.ndim - 1
+    if vec:
+        r = r[..., None]
     P = J.shape[-1]
     if P == 1:
-        return r / J[..., 0, :]
-    if P == 2:
-        a, b, c, d = J[..., 0, 0], J[..., 0, 1], J[..., 1, 0], J[..., 1, 1]
+        z = r / J
+    elif P == 2:
+        a, b = J[:, 0, 0, None], J[:, 0, 1, None]
+        c, d = J[:, 1, 0, None], J[:, 1, 1, None]
         det = a * d - b * c
-        return np.stack([(d * r[..., 0] - b * r[..., 1]) / det,
-                         (a * r[..., 1] - c * r[..., 0]) / det], axis=-1)
-    return np.linalg.solve(J, r[..., None])[..., 0]
+        z = np.stack([(d * r[:, 0] - b * r[:, 1]) / det,
+                      (a * r[:, 1] - c * r[:, 0]) / det], axis=1)
+    else:
+        z = np.linalg.solve(J, r)
+    return z[..., 0] if vec else z
 
 
 def solve_junctions(b: np.ndarray, Z: np.ndarray, y0: np.ndarray, law: str,
@@ -97,19 +105,35 @@ def solve_junctions(b: np.ndarray, Z: np.ndarray, y0: np.ndarray, law: str,
     y, f(y), f'(y) with shapes (B, P).
     """
     y = y0
-    tol = 1e-10 * vscale[:, None]
+    tol = 1e-7 * np.max(vscale)  # [V]
     eye = np.eye(Z.shape[-1])
     for _ in range(max_iter):
         i, g = junction(law, y, params)
-        res = y - b - np.einsum("bpq,bq->bp", Z, i)
+        res = y - b - (Z @ i[..., None])[..., 0]
         J = eye - Z * g[:, None, :]
         y_new = limit_step(law, y - _solve_small(J, res), y, params)
-        done = np.all(np.abs(y_new - y) <= tol)
+        dy = np.abs(y_new - y)
+        # converged when the last step moves neither voltage nor current noticeably
+        done = np.max(dy) <= tol and np.max(dy * g) <= CURRENT_TOLERANCE_A
         y = y_new
         if done:
             break
     i, g = junction(law, y, params)
     return y, i, g
+
+
+def _newton_step(M: np.ndarray, r: np.ndarray, slow: np.ndarray) -> np.ndarray:
+    """Solve (I - M) dx = r where M holds only the columns of the slow states.
+
+    The other columns of the monodromy matrix are taken as zero: a perturbation
+    of a junction or stray node capacitance dies out within a step.
+    """
+    Mss = M[:, slow, :]
+    ns = slow.size
+    dx_slow = np.linalg.solve(np.eye(ns) - Mss, r[:, slow, None])[..., 0]
+    dx = r + np.einsum("bij,bj->bi", M, dx_slow)
+    dx[:, slow] = dx_slow
+    return dx
 
 
 def _weighted_norm(w: np.ndarray, v: np.ndarray) -> np.ndarray:
@@ -151,21 +175,23 @@ class _Stepper:
         xs[0], us[0], ys[0] = x, u, y
         S = None
         if sens:
-            S = np.broadcast_to(np.eye(nx), (B, nx, nx)).copy()
+            # sensitivity to the slow states only (see StateSpace.slow)
+            S = np.broadcast_to(np.eye(nx)[:, ss.slow], (B, nx, ss.slow.size)).copy()
             W = g[:, :, None] * Cy
         eyeP = np.eye(P)
+        PhiG0 = np.concatenate([Phi, G0], axis=2)  # x[k+1] before u[k+1]: one product
         for k in range(self.steps):
-            xp = np.einsum("bij,bj->bi", Phi, x) + forcing[k] + np.einsum("bip,bp->bi", G0, u)
-            b = np.einsum("bpi,bi->bp", Cy, xp)
+            xu = np.concatenate([x, u], axis=1)[..., None]
+            xp = (PhiG0 @ xu)[..., 0] + forcing[k]
+            b = (Cy @ xp[..., None])[..., 0]
             y, u, g = solve_junctions(b, Z, y, law, params, vscale)
-            x = xp + np.einsum("bip,bp->bi", G1, u)
+            x = xp + (G1 @ u[..., None])[..., 0]
             xs[k + 1], us[k + 1], ys[k + 1] = x, u, y
             if sens:
                 R = Phi @ S + G0 @ (W @ S)
                 W = g[:, :, None] * Cy
-                WR = W @ R
                 K = eyeP - W @ G1
-                S = R + G1 @ np.linalg.solve(K, WR)
+                S = R + G1 @ _solve_small(K, W @ R)
         return xs, us, ys, S
 
 
@@ -305,7 +331,6 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
     out_y = np.empty((steps + 1, B, P))
     trial = x.copy()
     active = np.arange(B)
-    eye = np.eye(nx)
     for _it in range(max_iter):
         xs, us, ys, S = stepper.run(trial[active], active, sens=True)
         r = xs[-1] - xs[0]
@@ -324,8 +349,7 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
         # Newton step from accepted points
         go = improved & ~done
         if np.any(go):
-            Mg = S[go]
-            step[active[go]] = np.linalg.solve(Mg - eye, -r[go][..., None])[..., 0]
+            step[active[go]] = _newton_step(S[go], r[go], ss.slow)
             lam[active[go]] = 1.0
         back = ~improved
         lam[active[back]] *= 0.5
