@@ -45,6 +45,7 @@ from pathlib import Path
 import numpy as np
 
 from ..design import Design
+from ..writefiles import write_text_atomic
 from .netlist import (
     GROUND,
     NOMINAL,
@@ -259,6 +260,7 @@ def netlist(circuit: Circuit, index: int = 0, *, t_stop_s: float, t_step_s: floa
         f"{topo.winding} winding, {freq:g} Hz mains",
         f"* {CAUTION}",
         "* Runs from rest (uic): every capacitor discharged, every inductor without current.",
+        "* To run: ngspice -b -r out.raw THIS.cir (or ngspice THIS.cir, then: run, plot v(rect))",
         "*",
     ]
     for e in topo.elements:
@@ -339,15 +341,17 @@ def settle_time_estimate(circuit: Circuit, index: int = 0) -> float:
 # --------------------------------------------------------------------------- writing
 
 
-def write_spice(what: Design | Circuit, path: str | Path, *, index: int = 0,
+def write_spice(what: Design | Sequence[Design] | Circuit, path: str | Path, *, index: int = 0,
                 case: OperatingCase = NOMINAL, t_stop_s: float | None = None,
-                t_step_s: float = DEFAULT_STEP_S, reltol: float = DEFAULT_RELTOL) -> Path:
+                t_step_s: float = DEFAULT_STEP_S, reltol: float = DEFAULT_RELTOL,
+                force: bool = False) -> Path:
     """Write the SPICE netlist of a design (or of design ``index`` of a circuit).
 
     Parameters
     ----------
-    what : Design or Circuit
-        A complete design, or a batched circuit.
+    what : Design, sequence of Design, or Circuit
+        A complete design, designs sharing one topology, or a batched circuit;
+        ``index`` picks the design of a sequence or circuit.
     path : str or Path
         The file to write (``.cir``).
     case : OperatingCase
@@ -358,21 +362,25 @@ def write_spice(what: Design | Circuit, path: str | Path, *, index: int = 0,
         Largest time step [s], default 20 µs.
     reltol : float
         SPICE relative tolerance, default 1e-4.
+    force : bool
+        Replace an existing file (otherwise a :class:`~supplydesign.errors.UserError`).
 
     Returns
     -------
     Path
-        The path written.
+        The path written (atomically, through a temporary file).
     """
-    circuit = build([what], case) if isinstance(what, Design) else what
     if isinstance(what, Design):
-        index = 0
+        circuit, index = build([what], case), 0
+    elif isinstance(what, Circuit):
+        circuit = what
+    else:
+        circuit = build(list(what), case)
     if t_stop_s is None:
         t_stop_s = settle_time_estimate(circuit, index)
     text = netlist(circuit, index, t_stop_s=t_stop_s, t_step_s=t_step_s, reltol=reltol)
-    path = Path(path)
-    path.write_text(text, encoding="utf-8")
-    return path
+    write_text_atomic(path, text, force=force)
+    return Path(path)
 
 
 # --------------------------------------------------------------------------- running
@@ -548,7 +556,8 @@ def _figures(result: SpiceResult, t0: float, t1: float) -> dict:
     windings = []
     for name, i in result.winding_a.items():
         tt, ii = _window(t, i, t0, t1)
-        windings.append({"name": name, "rms_a": math.sqrt(_mean_square(tt, ii))})
+        windings.append({"name": name, "rms_a": math.sqrt(_mean_square(tt, ii)),
+                         "avg_a": _mean(tt, ii)})
     return {
         "window_s": [t0, t1],
         "rails": rails,
@@ -595,7 +604,7 @@ def measure_steady(result: SpiceResult, frequency_hz: float, window_periods: int
         JSON-ready: ``rails`` (per rail ``name``, ``dc_v``, ``ripple_rms_v``,
         ``ripple_pp_v``, ``peak_v``), ``anodes`` (per junction ``peak_a``,
         ``rms_a``, ``avg_a``), ``rectifier`` (the largest of the anodes),
-        ``windings`` (``rms_a``), ``transformer`` (the largest), ``window_s``;
+        ``windings`` (``rms_a``, ``avg_a``), ``transformer`` (the largest), ``window_s``;
         ``earlier``: the same over the earlier window; ``change``: relative
         change of every figure between the windows (``"rails.B+.dc_v"`` keys);
         ``dc_change_rel``: the largest relative change of a rail DC.
