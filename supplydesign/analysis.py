@@ -91,6 +91,17 @@ def _period(w: np.ndarray) -> np.ndarray:
     return w[:-1]
 
 
+def detrended(w: np.ndarray) -> np.ndarray:
+    """Remove the residual drift of a converged period (w[K] - w[0], spread linearly).
+
+    The shooting leaves a drift of the order of its tolerance; on a rail whose
+    ripple is microvolts it would otherwise show up as ripple.
+    """
+    K = w.shape[0] - 1
+    ramp = np.arange(K + 1)[:, None] / K
+    return w - ramp * (w[-1] - w[0])[None, :]
+
+
 def mean(w: np.ndarray) -> np.ndarray:
     return np.mean(_period(w), axis=0)
 
@@ -133,7 +144,7 @@ def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
     B = c.size
     rails: list[list[RailFigures]] = [[] for _ in range(B)]
     for i, (name, node) in enumerate(zip(topo.rail_names, topo.rail_nodes, strict=True)):
-        v = solved.node_v(node)
+        v = detrended(solved.node_v(node))
         dc = mean(v)
         ripple = np.std(_period(v), axis=0)
         pp = np.max(_period(v), axis=0) - np.min(_period(v), axis=0)
