@@ -289,9 +289,10 @@ def settle_time_estimate(circuit: Circuit, index: int = 0) -> float:
 
     Sums, along each path from the rectifier to a rail, a time constant per
     section: reservoir ``5 R_s C`` (source resistance over a conduction fraction
-    of about a fifth), resistor ``R C`` and choke ``2 L / R_dcr`` (the envelope
-    decay of an LC section without load damping), where ``C`` is all the
-    capacitance at and beyond that rail. Returns 8 times the slowest path plus
+    of about a fifth), resistor ``R C`` and choke ``2 L / (R_dcr + R_s)`` (the
+    envelope decay of an LC section without load damping), where ``C`` is all
+    the capacitance at and beyond that rail and ``R_s`` the winding (and diode)
+    resistance. Returns 8 times the slowest path plus
     1 s, between 2 s and 60 s, rounded up to half a second. An estimate: check
     the settle figures of :func:`measure_steady`.
     """
