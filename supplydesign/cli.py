@@ -67,11 +67,9 @@ def _cmd_evaluate(args) -> int:
         data = objs[0] if len(objs) == 1 else objs
         write_text_atomic(args.json, json.dumps(data, indent=2) + "\n", force=args.force)
     if args.spice:
-        from .circuit.netlist import build
-        from .circuit.spice import netlist
+        from .circuit.spice import write_spice
 
-        text = netlist(build(designs[:1]), 0, t_stop_s=6.0, t_step_s=20e-6)
-        write_text_atomic(args.spice, text, force=args.force)
+        write_spice(designs[0], args.spice, force=args.force)
     return 1 if not all(f.converged for f in full) else 0
 
 
