@@ -1,0 +1,88 @@
+"""The command line: contract JSON keys, exit status 2 for user mistakes, README example."""
+
+from __future__ import annotations
+
+import json
+import re
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from supplydesign.cli import main
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "examples").glob("*.toml"))
+
+
+def test_evaluate_json_has_the_contract_keys(tmp_path):
+    out = tmp_path / "figs.json"
+    assert main(["evaluate", str(EXAMPLES[0]), "--json", str(out), "--quiet"]) == 0
+    data = json.loads(out.read_text())
+    assert isinstance(data, dict)
+    for rail in data["rails"]:
+        for key in ("name", "dc_v", "ripple_rms_v", "ripple_pp_v", "regulation_pct"):
+            assert key in rail
+        assert rail["dc_v"] > 0
+    assert {"peak_a", "rms_a"} <= set(data["rectifier"])
+    assert "rms_a" in data["transformer"]
+
+
+def test_evaluate_several_files_writes_an_array_in_order(tmp_path):
+    out = tmp_path / "figs.json"
+    assert main(["evaluate", *map(str, EXAMPLES), "--json", str(out), "--quiet"]) == 0
+    data = json.loads(out.read_text())
+    assert isinstance(data, list) and len(data) == len(EXAMPLES)
+    from supplydesign.io.designfile import load_design
+
+    for obj, path in zip(data, EXAMPLES, strict=True):
+        assert [r["name"] for r in obj["rails"]] == [r.name for r in load_design(path).rails]
+
+
+def test_existing_output_is_not_overwritten_without_force(tmp_path, capsys):
+    out = tmp_path / "figs.json"
+    out.write_text("keep me")
+    assert main(["evaluate", str(EXAMPLES[0]), "--json", str(out), "--quiet"]) == 2
+    assert out.read_text() == "keep me"
+    assert "--force" in capsys.readouterr().err
+    assert main(["evaluate", str(EXAMPLES[0]), "--json", str(out), "--quiet", "--force"]) == 0
+    assert json.loads(out.read_text())["rails"]
+
+
+def test_user_mistake_is_one_line_exit_2_without_traceback(tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text(EXAMPLES[0].read_text().replace('"100 uF"', '"100 uH"', 1))
+    proc = subprocess.run([sys.executable, "-m", "supplydesign", "evaluate", str(bad)],
+                          capture_output=True, text=True)
+    assert proc.returncode == 2
+    lines = proc.stderr.strip().splitlines()
+    assert len(lines) == 1 and "Traceback" not in proc.stderr
+    assert str(bad) in lines[0] and "capacitance" in lines[0]
+
+
+def test_readme_example_design_evaluates(tmp_path):
+    text = (ROOT / "README.md").read_text()
+    block = re.search(r"```toml\n(.*?)```", text, re.S).group(1)
+    f = tmp_path / "readme.toml"
+    f.write_text(block)
+    out = tmp_path / "readme.json"
+    assert main(["evaluate", str(f), "--json", str(out), "--quiet"]) == 0
+    data = json.loads(out.read_text())
+    assert [r["name"] for r in data["rails"]] == ["output stage", "preamp"]
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])
+def test_examples_meet_their_own_targets(path, tmp_path):
+    """The shipped examples are designs a builder could start from: in tolerance, hum met."""
+    from supplydesign.analysis import evaluate
+    from supplydesign.io.designfile import load_design
+
+    design = load_design(path)
+    fig = evaluate([design])[0]
+    assert fig.converged
+    for rail, r in zip(design.rails, fig.rails, strict=True):
+        if rail.voltage_v is not None:
+            assert abs(r.dc_v - rail.voltage_v) <= rail.tolerance * rail.voltage_v, rail.name
+        if rail.hum_v is not None:
+            assert r.ripple_rms_v <= rail.hum_v, rail.name
