@@ -50,7 +50,7 @@ class StateSpace:
     Ru: np.ndarray  # (B, N + M, P)
     Cy: np.ndarray  # (B, P, nx): junction voltages y = Cy x (every junction node is a state)
     weights: np.ndarray  # (B, nx): sqrt of the energy-storing element of each state
-    slow: np.ndarray  # (ns,) state columns of the filter's own capacitors and inductors
+    slow: np.ndarray  # (ns,) state columns whose monodromy columns Newton uses
     node_index: dict[str, int]  # node name -> row of xi
     inductor_index: dict[str, int]  # element name -> row of xi
     ports: tuple[Element, ...]  # the D elements, in port order
@@ -183,28 +183,11 @@ def build_state_space(circuit: Circuit) -> StateSpace:
                 row += sgn * Rx[:, idx[node]]
         Cy[:, p] = row
     weights = np.sqrt(np.einsum("bii->bi", Mdd))
-    # States that can hold memory over a period: the filter's capacitors, stray node
-    # capacitances (with a choke they ring at audio frequencies), every inductance,
-    # and nodes with no resistive path to ground or to one of those capacitors (the
-    # common mode of a bridge's floating winding). The other junction capacitances
-    # forget within a step.
-    anchors = {e.a for e in topo.elements if e.kind == "C" and e.role[0] in ("cap", "node_c")}
-    reached = {GROUND} | anchors
-    grow = True
-    while grow:
-        grow = False
-        for e in topo.elements:
-            if (e.kind == "W" or (e.kind == "R" and e.role[0] != "junction_g")) \
-                    and (e.a in reached) != (e.b in reached):
-                reached.update((e.a, e.b))
-                grow = True
-    slow_rows = {idx[n] for n in anchors}
-    slow_rows |= {idx[n] for n in nodes if n not in reached and dyn_mask[idx[n]]}
-    slow_rows |= set(ind_idx.values())
-    slow = np.array(sorted(int(np.flatnonzero(Rx[0, r])[0]) for r in slow_rows), dtype=int)
-    if topo.arrangement == "bridge":
-        # the floating winding couples every junction node slowly: keep them all
-        slow = np.arange(len(d))
+    # Newton shooting needs the monodromy columns of every state that can hold memory
+    # over a period. Choosing them by structure (filter capacitors and inductors only)
+    # proved fragile (a bridge's floating winding, choke inputs with steep junctions),
+    # so every state is kept.
+    slow = np.arange(len(d))
     return StateSpace(circuit, A, Bs, Bu, Rx, Rs, Ru, Cy, weights, slow, idx, ind_idx, ports,
                       omega, n_dynamic_nodes=int(np.sum(d < N)))
 
