@@ -351,12 +351,6 @@ def test_choke_input_dc_continuous_conduction():
     assert_allclose(dc, [choke_input_dc(i, rect) for i in CHOKE_LOADS_A], rtol=0, atol=0.03)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "solver: a choke input fed by a generic silicon rectifier (n = 1.8, I_s = 5 nA, "
-    "0.05 ohm) does not converge: at 512 steps the residual stalls at 1.75e-9 (tolerance "
-    "1e-9) for 40 iterations, V_dc within 0.01 V of item 3; at 1024 steps Newton gives up "
-    "after 15 iterations at residual 5.5e-5 with V_dc 0.35 V low, at 2048 steps after 29 "
-    "at 3.7e-5, 0.20 V low. The same circuit with the near-ideal diode converges."))
 def test_choke_input_dc_generic_silicon():
     # REFERENCES item 3 (Wikipedia, "Ripple (electrical)" [source]; N. Crowhurst,
     # Basic Audio vol. 3 (1959) [source]) with a real silicon diode: its drop at I
