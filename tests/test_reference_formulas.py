@@ -351,15 +351,24 @@ def test_choke_input_dc_continuous_conduction():
     assert_allclose(dc, [choke_input_dc(i, rect) for i in CHOKE_LOADS_A], rtol=0, atol=0.03)
 
 
-def test_choke_input_dc_generic_silicon():
+@pytest.mark.parametrize(("steps", "loads"), [
+    (STEPS, CHOKE_LOADS_A),
+    pytest.param(1024, (0.1,), marks=[pytest.mark.slow, pytest.mark.xfail(strict=True, reason=(
+        "solver: at 1024 steps per period this choke input with a generic silicon "
+        "rectifier does not converge at 0.1 A: 40 Newton iterations, residual 3.2e-6, "
+        "V_dc 0.38 V below item 3. The 0.05 and 0.2 A loads converge at 1024 steps "
+        "(0.003 and 0.017 V off), and all three at 256-896 and 2048 steps."))]),
+], ids=["512-steps", "1024-steps"])
+def test_choke_input_dc_generic_silicon(steps, loads):
     # REFERENCES item 3 (Wikipedia, "Ripple (electrical)" [source]; N. Crowhurst,
     # Basic Audio vol. 3 (1959) [source]) with a real silicon diode: its drop at I
     # (0.79 V at 0.1 A from its Shockley law and series resistance) is the rectifier
-    # term. Tolerance 0.03 V as in the near-ideal case (commutation 0.004 V at 0.1 A).
+    # term. Tolerance 0.03 V as in the near-ideal case (commutation 0.016 V at 0.2 A).
     rect = Rectifier(kind="silicon")
-    fig = evaluate(choke_input_designs(rect, loads=(0.1,)), steps=STEPS)[0]
-    assert fig.converged, (fig.iterations, fig.residual)
-    assert fig.rails[0].dc_v == pytest.approx(choke_input_dc(0.1, rect), abs=0.03)
+    figs = evaluate(choke_input_designs(rect, loads=loads), steps=steps)
+    assert_converged(figs)
+    dc = [f.rails[0].dc_v for f in figs]
+    assert_allclose(dc, [choke_input_dc(i, rect) for i in loads], rtol=0, atol=0.03)
 
 
 # ---------------------- 4 and 5: critical inductance, LC ripple factor (choke + C + R)
