@@ -42,7 +42,7 @@ import numpy as np
 
 from .devices import junction, limit_step
 from .netlist import GROUND
-from .statespace import Discrete, StateSpace, discretize
+from .statespace import Discrete, StateSpace, _stamp, discretize
 
 #: junction Newton iterations stop when the last step changes a current by less [A]
 CURRENT_TOLERANCE_A = 1e-9
@@ -226,9 +226,9 @@ def initial_guess(ss: StateSpace) -> np.ndarray:
     inj = np.zeros((B, nf))
     for e in filt:
         if e.kind == "R":
-            _stamp_dc(G, fi, e.a, e.b, 1.0 / c.value(e.name, "r"))
+            _stamp(G, fi, e.a, e.b, 1.0 / c.value(e.name, "r"))
         elif e.kind == "L":
-            _stamp_dc(G, fi, e.a, e.b, 1.0 / np.maximum(c.value(e.name, "r"), 1e-3))
+            _stamp(G, fi, e.a, e.b, 1.0 / np.maximum(c.value(e.name, "r"), 1e-3))
         elif e.kind == "J":
             for node, sgn in ((e.a, -1.0), (e.b, 1.0)):
                 if node != GROUND:
@@ -281,17 +281,6 @@ def initial_guess(ss: StateSpace) -> np.ndarray:
             if len(col) == 1:
                 x0[:, col[0]] = v[:, fi[e.b]] * 0.0
     return x0
-
-
-def _stamp_dc(G, fi, a, b, g):
-    ia, ib = fi.get(a), fi.get(b)
-    if ia is not None:
-        G[:, ia, ia] += g
-    if ib is not None:
-        G[:, ib, ib] += g
-    if ia is not None and ib is not None:
-        G[:, ia, ib] -= g
-        G[:, ib, ia] -= g
 
 
 def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: float = 1e-9,
