@@ -229,18 +229,12 @@ def test_ideal_full_wave_dc_tends_to_the_peak(resistive_cap_input):
     assert rail.dc_v / EXACT_VP == pytest.approx(1.0, abs=1e-3)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "solver: with a source resistance of 1e-5 to 1e-6 ohm the steady state is reported "
-    "converged (2 Newton iterations at wRC = 1e4) but V_dc exceeds the emf crest: "
-    "V_dc/V_p = 1.0056 "
-    "(1e-5 ohm) and 1.0018 (1e-6 ohm) at wRC = 1e4, and 0.89852 against the exact 0.89815 "
-    "at wRC = 10 (1e-6 ohm; also 0.89853 at 2048 steps). 1e-3 and 1e-4 ohm give 0.99978 "
-    "and 0.99986 at wRC = 1e4 and 0.89817 at wRC = 10."))
 def test_near_zero_source_resistance_keeps_dc_below_the_crest():
     # REFERENCES item 2, limit ωRC -> ∞, R_s -> 0: V_dc -> V_p [derived], from below:
     # a capacitor charged through a rectifier cannot rise above the emf's crest,
     # whatever the source resistance. And at ωRC = 10 the exact 0.8982 (item 2)
     # must hold as well with R_s = 1 µΩ as with 1 mΩ (tolerance as above, 1e-4).
+    # The model floors the source resistance at netlist.MIN_SOURCE_RESISTANCE (1 mΩ).
     cases = [(1e-5, LARGE_WRC), (1e-6, LARGE_WRC), (1e-6, 10.0)]
     designs = [supply([Rail("out", capacitor=Capacitor(w / (OMEGA * EXACT_R_OHM)),
                             load_resistance_ohm=EXACT_R_OHM)],

@@ -53,6 +53,10 @@ GROUND = "0"
 JUNCTION_CAPACITANCE = 100e-12
 #: conductance across each rectifier junction [S] (keeps an off junction defined)
 JUNCTION_CONDUCTANCE = 1e-9
+#: smallest source resistance modelled [ohm]: every real winding has more, and below
+#: it the time constant with the junction capacitance (1e-16 s at 1 µΩ) is too stiff
+#: for the exact discretisation to keep its accuracy
+MIN_SOURCE_RESISTANCE = 1e-3
 #: damping of the leakage inductance, relative to sqrt(l / JUNCTION_CAPACITANCE)
 LEAKAGE_DAMPING = 0.5
 #: capacitance to ground at nodes without another capacitive path to ground [F]
@@ -303,7 +307,7 @@ def _element_values(design: Design, topo: Topology, case: OperatingCase) -> dict
     for e in topo.elements:
         role = e.role
         if e.kind == "W":
-            vals[e.name] = {"emf": amp, "r": tr.resistance_ohm}
+            vals[e.name] = {"emf": amp, "r": max(tr.resistance_ohm, MIN_SOURCE_RESISTANCE)}
         elif role[0] == "leakage":
             vals[e.name] = {"l": tr.leakage_h, "r": 0.0}
         elif role[0] == "leakage_damping":
