@@ -136,49 +136,64 @@ def solve(designs: Sequence[Design], case: OperatingCase = NOMINAL,
     return out
 
 
-def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
-               waveforms: bool = False) -> list[Figures]:
-    """Figures of every design of a solved batch."""
+@dataclass
+class FigureArrays:
+    """The figures of a solved batch as arrays: rails (B, R), the rest (B,)."""
+
+    dc_v: np.ndarray
+    ripple_rms_v: np.ndarray
+    ripple_pp_v: np.ndarray
+    peak_v: np.ndarray
+    load_a: np.ndarray
+    link_dc_a: np.ndarray
+    link_rms_a: np.ndarray
+    link_power_w: np.ndarray
+    cap_ripple_rms_a: np.ndarray  # NaN where a rail has no capacitor
+    cap_power_w: np.ndarray
+    rect_peak_a: np.ndarray
+    rect_rms_a: np.ndarray
+    rect_avg_a: np.ndarray
+    rect_power_w: np.ndarray
+    winding_rms_a: np.ndarray
+    winding_power_w: np.ndarray
+    converged: np.ndarray
+    iterations: np.ndarray
+    residual: np.ndarray
+
+
+def figure_arrays(solved: Solved) -> FigureArrays:
+    """Every figure of every design of a solved batch, computed on whole arrays."""
     c = solved.circuit
     topo = c.topology
     B = c.size
-    rails: list[list[RailFigures]] = [[] for _ in range(B)]
-    for i, (name, node) in enumerate(zip(topo.rail_names, topo.rail_nodes, strict=True)):
+    R = len(topo.rail_nodes)
+    cols = {k: np.zeros((B, R)) for k in (
+        "dc_v", "ripple_rms_v", "ripple_pp_v", "peak_v", "load_a", "link_dc_a", "link_rms_a",
+        "link_power_w")}
+    cap_rms = np.full((B, R), np.nan)
+    cap_p = np.full((B, R), np.nan)
+    for i, node in enumerate(topo.rail_nodes):
         v = detrended(solved.node_v(node))
-        dc = mean(v)
-        ripple = np.std(_period(v), axis=0)
-        pp = np.max(_period(v), axis=0) - np.min(_period(v), axis=0)
+        cols["dc_v"][:, i] = mean(v)
+        cols["ripple_rms_v"][:, i] = np.std(_period(v), axis=0)
+        cols["ripple_pp_v"][:, i] = np.max(_period(v), axis=0) - np.min(_period(v), axis=0)
         cap = topo.by_role("cap", i)
         esr = topo.by_role("esr", i)
-        v_cap = solved.node_v(cap.a) if cap is not None else v
-        pk = peak(v_cap)
-        load = topo.by_role("load", i)
-        load_a = mean(solved.current(load.name))
+        cols["peak_v"][:, i] = peak(solved.node_v(cap.a) if cap is not None else v)
+        cols["load_a"][:, i] = mean(solved.current(topo.by_role("load", i).name))
         link = topo.by_role("link", i)
         if link is not None:
             il = solved.current(link.name)
-            link_dc, link_rms = mean(il), rms(il)
-            link_p = rms(il) ** 2 * c.value(link.name, "r")
-        else:
-            link_dc = link_rms = link_p = np.zeros(B)
+            cols["link_dc_a"][:, i] = mean(il)
+            cols["link_rms_a"][:, i] = rms(il)
+            cols["link_power_w"][:, i] = rms(il) ** 2 * c.value(link.name, "r")
         if cap is not None:
             ic = solved.current(cap.name)
-            cap_rms = np.std(_period(ic), axis=0)
-            cap_p = rms(ic) ** 2 * (c.value(esr.name, "r") if esr is not None else 0.0)
-        for b in range(B):
-            rails[b].append(RailFigures(
-                name=name, dc_v=float(dc[b]), ripple_rms_v=float(ripple[b]),
-                ripple_pp_v=float(pp[b]), peak_v=float(pk[b]), load_a=float(load_a[b]),
-                link_dc_a=float(link_dc[b]), link_power_w=float(link_p[b]),
-                link_rms_a=float(link_rms[b]),
-                cap_ripple_rms_a=None if cap is None else float(cap_rms[b]),
-                cap_power_w=None if cap is None else float(cap_p[b])))
+            cap_rms[:, i] = np.std(_period(ic), axis=0)
+            cap_p[:, i] = rms(ic) ** 2 * (c.value(esr.name, "r") if esr is not None else 0.0)
     diodes = topo.of_kind("D")
     i_d = [solved.current(d.name) for d in diodes]
     y = solved.steady.y
-    d_peak = np.max([peak(i) for i in i_d], axis=0)
-    d_rms = np.max([rms(i) for i in i_d], axis=0)
-    d_avg = np.max([mean(i) for i in i_d], axis=0)
     powers = []
     for p, d in enumerate(diodes):
         pw = mean(i_d[p] * y[:, :, p])
@@ -186,31 +201,56 @@ def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
         if r_el is not None:
             pw = pw + rms(i_d[p]) ** 2 * c.value(r_el.name, "r")
         powers.append(pw)
-    d_pow = np.max(powers, axis=0)
     windings = topo.of_kind("W")
     i_w = [solved.current(w.name) for w in windings]
-    w_rms = np.max([rms(i) for i in i_w], axis=0)
-    w_pow = np.sum([rms(i) ** 2 * c.value(w.name, "r") for i, w in zip(i_w, windings,
-                                                                       strict=True)], axis=0)
     st = solved.steady
+    return FigureArrays(
+        **cols, cap_ripple_rms_a=cap_rms, cap_power_w=cap_p,
+        rect_peak_a=np.max([peak(i) for i in i_d], axis=0),
+        rect_rms_a=np.max([rms(i) for i in i_d], axis=0),
+        rect_avg_a=np.max([mean(i) for i in i_d], axis=0),
+        rect_power_w=np.max(powers, axis=0),
+        winding_rms_a=np.max([rms(i) for i in i_w], axis=0),
+        winding_power_w=np.sum([rms(i) ** 2 * c.value(w.name, "r")
+                                for i, w in zip(i_w, windings, strict=True)], axis=0),
+        converged=st.converged, iterations=st.iterations, residual=st.residual)
+
+
+def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
+               waveforms: bool = False) -> list[Figures]:
+    """Figures of every design of a solved batch, as dataclasses."""
+    topo = solved.circuit.topology
+    fa = figure_arrays(solved)
     out = []
-    for b in range(B):
+    for b in range(solved.circuit.size):
+        rails = []
+        for i, name in enumerate(topo.rail_names):
+            has_cap = not np.isnan(fa.cap_ripple_rms_a[b, i])
+            rails.append(RailFigures(
+                name=name, dc_v=float(fa.dc_v[b, i]), ripple_rms_v=float(fa.ripple_rms_v[b, i]),
+                ripple_pp_v=float(fa.ripple_pp_v[b, i]), peak_v=float(fa.peak_v[b, i]),
+                load_a=float(fa.load_a[b, i]), link_dc_a=float(fa.link_dc_a[b, i]),
+                link_power_w=float(fa.link_power_w[b, i]),
+                link_rms_a=float(fa.link_rms_a[b, i]),
+                cap_ripple_rms_a=float(fa.cap_ripple_rms_a[b, i]) if has_cap else None,
+                cap_power_w=float(fa.cap_power_w[b, i]) if has_cap else None))
         wf = None
         if waveforms:
             wf = Waveforms(
                 t_s=solved.t_s[:, b],
                 rail_v={n: solved.node_v(node)[:, b]
                         for n, node in zip(topo.rail_names, topo.rail_nodes, strict=True)},
-                anode_a=[i[:, b] for i in i_d],
-                winding_a=[i[:, b] for i in i_w],
+                anode_a=[solved.current(d.name)[:, b] for d in topo.of_kind("D")],
+                winding_a=[solved.current(w.name)[:, b] for w in topo.of_kind("W")],
             )
         out.append(Figures(
-            case=case.name, rails=rails[b],
-            rectifier=RectifierFigures(float(d_peak[b]), float(d_rms[b]), float(d_avg[b]),
-                                       float(d_pow[b])),
-            transformer=TransformerFigures(float(w_rms[b]), float(w_pow[b])),
-            converged=bool(st.converged[b]), iterations=int(st.iterations[b]),
-            residual=float(st.residual[b]), waveforms=wf))
+            case=case.name, rails=rails,
+            rectifier=RectifierFigures(float(fa.rect_peak_a[b]), float(fa.rect_rms_a[b]),
+                                       float(fa.rect_avg_a[b]), float(fa.rect_power_w[b])),
+            transformer=TransformerFigures(float(fa.winding_rms_a[b]),
+                                           float(fa.winding_power_w[b])),
+            converged=bool(fa.converged[b]), iterations=int(fa.iterations[b]),
+            residual=float(fa.residual[b]), waveforms=wf))
     return out
 
 
