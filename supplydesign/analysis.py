@@ -216,6 +216,26 @@ def figure_arrays(solved: Solved) -> FigureArrays:
         converged=st.converged, iterations=st.iterations, residual=st.residual)
 
 
+def stack_rows(parts: list[tuple[np.ndarray, FigureArrays]], n: int) -> FigureArrays:
+    """Scatter figure arrays of several batches, each with its row indices, into one."""
+    first = parts[0][1]
+    out = {}
+    for name in first.__dataclass_fields__:
+        ref = getattr(first, name)
+        arr = np.zeros((n, *ref.shape[1:]), dtype=ref.dtype)
+        for rows, fa in parts:
+            arr[np.asarray(rows)] = getattr(fa, name)
+        out[name] = arr
+    return FigureArrays(**out)
+
+
+def evaluate_arrays(designs: Sequence[Design], case: OperatingCase = NOMINAL, *,
+                    steps: int = STEPS_PER_PERIOD) -> FigureArrays:
+    """Figure arrays of designs of any topologies, rows in the order given."""
+    parts = [(idx, figure_arrays(solved)) for idx, solved in solve(designs, case, steps)]
+    return stack_rows(parts, len(designs))
+
+
 def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
                waveforms: bool = False) -> list[Figures]:
     """Figures of every design of a solved batch, as dataclasses."""

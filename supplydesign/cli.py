@@ -9,6 +9,8 @@ from __future__ import annotations
 import argparse
 import sys
 
+from . import cli_parts
+
 EXIT_USER = 2
 
 
@@ -30,7 +32,85 @@ def _parser() -> argparse.ArgumentParser:
     ev.add_argument("--steps", type=int, default=512, help="solver steps per mains period")
     ev.add_argument("--force", action="store_true", help="overwrite existing output files")
     ev.add_argument("--quiet", action="store_true", help="no console report")
+    cli_parts.add_parsers(sub)
+    sy = sub.add_parser("synth", help="search a brief for its Pareto set of buildable designs")
+    sy.add_argument("brief", metavar="BRIEF.toml")
+    _synth_options(sy, out_required=True)
+    de = sub.add_parser("demo", help="run synth on a built-in example brief")
+    _synth_options(de, out_required=False)
     return p
+
+
+def _synth_options(sp, out_required: bool) -> None:
+    sp.add_argument("--out", metavar="DIR", required=out_required,
+                    help="folder for pareto.json, pareto.csv and designs/")
+    sp.add_argument("--seed", type=int, default=1, help="random seed (same seed, same result)")
+    sp.add_argument("--workers", type=int, default=1, help="parallel evaluation processes")
+    sp.add_argument("--catalog", metavar="DIR", help="parts catalog directory to add")
+    sp.add_argument("--generations", type=int, default=30, help="search generations")
+    sp.add_argument("--population", type=int, default=48, help="candidates per generation")
+    sp.add_argument("--objectives", default="hum_db,regulation_pct,peak,cost",
+                    help="comma-separated subset of hum_db, regulation_pct, peak, cost")
+    sp.add_argument("--force", action="store_true", help="overwrite existing output files")
+    sp.add_argument("--show", type=int, default=25, help="designs listed in the console table")
+
+
+def _cmd_synth(args, brief_path: str | None = None) -> int:
+    import os
+
+    from rich.console import Console
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+    from .errors import UserError
+    from .io.designfile import load_design, read_catalog_setting
+    from .parts import load_catalog
+    from .report.synth_console import render_synthesis
+    from .synth.files import write_run
+    from .synth.run import SynthOptions, synthesize
+    from .synth.score import OBJECTIVES
+
+    path = brief_path or args.brief
+    objectives = tuple(o.strip() for o in args.objectives.split(",") if o.strip())
+    bad = [o for o in objectives if o not in OBJECTIVES]
+    if bad or not objectives:
+        raise UserError(f"expected objectives among {', '.join(OBJECTIVES)}, got {bad or 'none'}",
+                        key="--objectives")
+    for name, value, low in (("--workers", args.workers, 1), ("--generations", args.generations, 1),
+                             ("--population", args.population, 4)):
+        if value < low:
+            raise UserError(f"expected at least {low}", key=name)
+    extra = args.catalog or read_catalog_setting(path)
+    catalog = load_catalog(extra=extra) if extra else load_catalog()
+    brief = load_design(path, brief=True, catalog=catalog)
+    options = SynthOptions(seed=args.seed, pop_size=args.population,
+                           generations=args.generations, workers=args.workers,
+                           objectives=objectives)
+    console = Console()
+    with Progress(TextColumn("[bold]searching[/]"), BarColumn(), TextColumn("{task.description}"),
+                  TimeElapsedColumn(), console=console, transient=True) as bar:
+        task = bar.add_task("", total=options.generations)
+
+        def progress(gen, total, best):
+            if best is None:
+                text = "no candidate meets the brief yet"
+            else:
+                text = (f"best: hum margin {-best[0]:.1f} dB, idle→full {best[1]:.1f} %, "
+                        f"cost {best[3]:.2f}")
+            bar.update(task, completed=gen, description=text)
+
+        result = synthesize(brief, catalog, options, progress=progress)
+    render_synthesis(console, result, limit=args.show)
+    if args.out:
+        written = write_run(result, args.out, force=args.force, seed=args.seed)
+        console.print(f"wrote {len(written)} files to {os.path.abspath(args.out)}")
+    return 0 if result.designs else 3
+
+
+def _cmd_demo(args) -> int:
+    from importlib.resources import files
+
+    brief = files("supplydesign") / "data" / "demo-brief.toml"
+    return _cmd_synth(args, brief_path=str(brief))
 
 
 def _cmd_evaluate(args) -> int:
@@ -73,7 +153,8 @@ def _cmd_evaluate(args) -> int:
     return 1 if not all(f.converged for f in full) else 0
 
 
-COMMANDS = {"evaluate": _cmd_evaluate}
+COMMANDS = {"evaluate": _cmd_evaluate, "synth": _cmd_synth, "demo": _cmd_demo}
+COMMANDS.update(cli_parts.COMMANDS)
 
 
 def main(argv: list[str] | None = None) -> int:

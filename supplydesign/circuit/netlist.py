@@ -140,6 +140,7 @@ def signature(design: Design) -> tuple:
             r.link.kind,
             None if cap is None else (cap.esr_ohm > 0),
             r.load_resistance_ohm is not None,
+            r.bleeder_ohm is not None,
         ))
     rect = design.rectifier
     return (
@@ -168,7 +169,7 @@ class OperatingCase:
 NOMINAL = OperatingCase()
 
 
-def _topology(design: Design) -> Topology:
+def topology_of(design: Design) -> Topology:
     tr, rect = design.transformer, design.rectifier
     winding, arrangement = tr.winding, rect.arrangement
     elements: list[Element] = []
@@ -237,6 +238,8 @@ def _topology(design: Design) -> Topology:
                 elements.append(Element("C", f"c{i + 1}", inner, GROUND, ("cap", i)))
             else:
                 elements.append(Element("C", f"c{i + 1}", node, GROUND, ("cap", i)))
+        if r.bleeder_ohm is not None:
+            elements.append(Element("R", f"rb{i + 1}", node, GROUND, ("bleeder", i)))
         if r.load_resistance_ohm is not None:
             elements.append(Element("R", f"rload{i + 1}", node, GROUND, ("load", i)))
         else:
@@ -300,7 +303,7 @@ def _add_node_capacitances(elements: list[Element], nodes: list[str],
             _spread(elements, anchored, resistive)
 
 
-def _element_values(design: Design, topo: Topology, case: OperatingCase) -> dict[str, dict]:
+def element_values(design: Design, topo: Topology, case: OperatingCase) -> dict[str, dict]:
     tr, rect = design.transformer, design.rectifier
     vals: dict[str, dict[str, float]] = {}
     amp = np.sqrt(2.0) * tr.open_circuit_v * case.mains_factor
@@ -335,6 +338,8 @@ def _element_values(design: Design, topo: Topology, case: OperatingCase) -> dict
                     vals[e.name] = {"l": rail.link.inductance_h, "r": rail.link.resistance_ohm}
             elif role[0] == "esr":
                 vals[e.name] = {"r": rail.capacitor.esr_ohm}
+            elif role[0] == "bleeder":  # draws current also with the valves cold
+                vals[e.name] = {"r": rail.bleeder_ohm}
             elif role[0] == "cap":
                 vals[e.name] = {"c": rail.capacitor.capacitance_f}
             elif role[0] == "load":
@@ -357,14 +362,34 @@ def build(designs: Sequence[Design], case: OperatingCase = NOMINAL) -> Circuit:
     for d in designs[1:]:
         if signature(d) != sig:
             raise ValueError("designs of one batch must share a topology; use group_by_topology")
-    topo = _topology(designs[0])
-    per = [_element_values(d, topo, case) for d in designs]
+    topo = topology_of(designs[0])
+    per = [element_values(d, topo, case) for d in designs]
     values = {
         name: {p: np.array([v[name][p] for v in per], dtype=float) for p in per[0][name]}
         for name in per[0]
     }
     freq = np.array([d.mains.frequency_hz for d in designs], dtype=float)
     return Circuit(topo, values, freq, tuple(designs))
+
+
+def build_batch(template: Design, n: int,
+                overrides: dict[tuple, dict[str, np.ndarray]] | None = None,
+                case: OperatingCase = NOMINAL) -> Circuit:
+    """A batch of ``n`` designs sharing ``template``'s topology, values set by array.
+
+    Every element starts from the template's value; ``overrides`` maps an element
+    role (``("link", 2)``, ``("cap", 0)``, ``("winding", 1)``, ...) to arrays of its
+    parameters, one entry per design. This is how synthesis builds whole
+    populations without making a Design object per candidate.
+    """
+    topo = topology_of(template)
+    base = element_values(template, topo, case)
+    values = {name: {p: np.full(n, float(v)) for p, v in d.items()} for name, d in base.items()}
+    for e in topo.elements:
+        for p, arr in (overrides or {}).get(e.role, {}).items():
+            values[e.name][p] = np.broadcast_to(np.asarray(arr, dtype=float), (n,)).copy()
+    freq = np.full(n, float(template.mains.frequency_hz))
+    return Circuit(topo, values, freq, ())
 
 
 def group_by_topology(designs: Sequence[Design]) -> list[list[int]]:

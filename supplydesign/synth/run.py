@@ -1,0 +1,297 @@
+"""The synthesis runner: search, verification, Pareto set, picks, comparison.
+
+Reads like pymoo: a search space from the brief, a problem that evaluates whole
+populations, an algorithm (NSGA-II on integer variables) and a termination,
+joined by one ``minimize`` call. Every candidate ever evaluated is kept; the
+feasible non-dominated ones are re-evaluated with the accurate evaluator (the
+same path as ``evaluate``), and only those that still meet every constraint are
+reported.
+
+References
+----------
+.. [1] K. Deb, A. Pratap, S. Agarwal, T. Meyarivan, "A fast and elitist
+   multiobjective genetic algorithm: NSGA-II", IEEE Trans. Evol. Comput. 6(2),
+   182-197 (2002).
+.. [2] J. Blank, K. Deb, "pymoo: Multi-objective optimization in Python", IEEE
+   Access 8, 89497-89509 (2020).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..analysis import FigureArrays, evaluate_arrays
+from ..circuit.netlist import OperatingCase
+from ..design import Design
+from .score import OBJECTIVES, Scores, choose_capacitors, score
+from .space import KIND_CHOKE, KIND_RESISTOR, SearchSpace, build_space, decode, to_design
+
+IDLE = OperatingCase("idle", 1.0, "idle")
+
+
+@dataclass
+class SynthOptions:
+    seed: int = 1
+    pop_size: int = 48
+    generations: int = 30
+    workers: int = 1
+    objectives: tuple[str, ...] = OBJECTIVES
+    verify_steps: int = 512
+
+
+@dataclass
+class Candidate:
+    """One reported design with its verified figures."""
+
+    design: Design
+    objectives: dict[str, float]
+    cost: float
+    feasible: bool
+    notation: str  # the trade's notation of the filter, e.g. "CRC" or "CLCRCRC"
+    chokes: int
+    resistor_heat_w: float
+    choke_mass_kg: float
+    margins: dict[str, float]  # constraint name -> value (<= 0 met)
+    full: dict  # per rail arrays of the verified full-load figures (dc_v, ripple_rms_v, ...)
+    regulation: list[float]
+
+
+@dataclass
+class SynthResult:
+    brief: Design
+    designs: list[Candidate]  # verified Pareto set, cheapest first
+    picks: dict[str, tuple[int, str]]  # pick name -> (index into designs, why)
+    comparison: dict | None  # choke against resistor
+    explanation: list[str]  # why nothing was feasible (empty when designs exist)
+    evaluations: int = 0
+    generations: int = 0
+    currency: str | None = None
+    objectives: tuple[str, ...] = OBJECTIVES
+    archive_feasible: int = 0
+    extra: dict = field(default_factory=dict)
+
+
+def notation(design: Design) -> str:
+    """The trade's notation of the filter along its main chain: C for a capacitor,
+    R a resistor, L a choke (branches are listed after a '+')."""
+    out = []
+    for r in design.rails:
+        link = {"resistor": "R", "choke": "L"}.get(r.link.kind, "")
+        out.append(link + ("C" if r.capacitor is not None else ""))
+    return "".join(out)
+
+
+def _nondominated(F: np.ndarray) -> np.ndarray:
+    from pymoo.util.nds.non_dominated_sorting import NonDominatedSorting
+
+    if len(F) == 0:
+        return np.array([], dtype=int)
+    return NonDominatedSorting().do(F, only_non_dominated_front=True)
+
+
+class _Archive:
+    """Every evaluated candidate: X, objectives, constraints (unique rows)."""
+
+    def __init__(self):
+        self.X: list[np.ndarray] = []
+        self.F: list[np.ndarray] = []
+        self.G: list[np.ndarray] = []
+
+    def add(self, X, F, G):
+        self.X.append(np.rint(X).astype(int))
+        self.F.append(F)
+        self.G.append(G)
+
+    def arrays(self):
+        X = np.concatenate(self.X)
+        F = np.concatenate(self.F)
+        G = np.concatenate(self.G)
+        _, first = np.unique(X, axis=0, return_index=True)
+        first = np.sort(first)
+        return X[first], F[first], G[first]
+
+
+def _verify(space: SearchSpace, X: np.ndarray, steps: int):
+    """Re-evaluate rows with the accurate evaluator through real Design objects.
+
+    The resistor power classes do not change the circuit, so the designs are solved
+    with a placeholder class, then scored, then rebuilt with the classes chosen from
+    the verified dissipation."""
+    dec = decode(space, X)
+    caprow, _ = choose_capacitors(space, dec)
+    placeholder = {"capacitor": caprow,
+                   "resistor_class": np.full(caprow.shape,
+                                             int(np.argmax(space.resistor_classes["power_w"])))}
+    designs = [to_design(space, dec, j, placeholder) for j in range(len(X))]
+    full = evaluate_arrays(designs, steps=steps)
+    idle = evaluate_arrays(designs, IDLE, steps=steps)
+    verified = score(space, dec, caprow, full, idle)
+    designs = [to_design(space, dec, j, verified.parts()) for j in range(len(X))]
+    return dec, verified, designs, full, idle
+
+
+def _candidate(space, dec, sc: Scores, j: int, design: Design, full: FigureArrays,
+               idle: FigureArrays, objectives) -> Candidate:
+    kinds = dec.kind[j]
+    chokes = int(np.sum(kinds == KIND_CHOKE))
+    heat = float(np.sum(np.where(kinds == KIND_RESISTOR, full.link_power_w[j], 0.0)))
+    mass = 0.0
+    if "mass_kg" in space.chokes:
+        rows = dec.choke[j][kinds == KIND_CHOKE]
+        mass = float(np.nansum(space.chokes["mass_kg"][rows])) if len(rows) else 0.0
+    reg = list(100.0 * (idle.dc_v[j] - full.dc_v[j]) / full.dc_v[j])
+    return Candidate(
+        design=design,
+        objectives={o: float(sc.F[j, OBJECTIVES.index(o)]) for o in OBJECTIVES},
+        cost=float(sc.cost[j]), feasible=bool(sc.feasible[j]), notation=notation(design),
+        chokes=chokes, resistor_heat_w=heat, choke_mass_kg=mass,
+        margins=dict(zip(sc.names, map(float, sc.G[j]), strict=True)),
+        full={"dc_v": full.dc_v[j].tolist(), "ripple_rms_v": full.ripple_rms_v[j].tolist(),
+              "ripple_pp_v": full.ripple_pp_v[j].tolist(), "peak_a": float(full.rect_peak_a[j]),
+              "link_power_w": full.link_power_w[j].tolist()},
+        regulation=reg)
+
+
+def _picks(cands: list[Candidate]) -> dict[str, tuple[int, str]]:
+    if not cands:
+        return {}
+    F = np.array([[c.objectives[o] for o in OBJECTIVES] for c in cands])
+    cost, hum, reg = F[:, 3], F[:, 0], F[:, 1]
+    picks = {}
+    i = int(np.argmin(cost))
+    picks["cheapest"] = (i, f"lowest parts cost of the set ({cost[i]:.2f})")
+    i = int(np.argmin(hum))
+    picks["quietest"] = (i, f"most hum margin on its worst rail ({-hum[i]:.1f} dB)")
+    i = int(np.argmin(reg))
+    picks["stiffest"] = (i, f"smallest idle-to-full DC change ({reg[i]:.1f} %)")
+    span = np.ptp(F, axis=0)
+    norm = (F - F.min(axis=0)) / np.where(span > 0, span, 1.0)
+    i = int(np.argmin(np.linalg.norm(norm, axis=1)))
+    picks["balanced"] = (i, "closest to the best of every objective at once "
+                            "(objectives scaled to the set's range)")
+    return picks
+
+
+def _comparison(cands: list[Candidate]) -> dict | None:
+    """Best all-resistor design against the best with chokes at comparable hum."""
+    resistive = [c for c in cands if c.chokes == 0 and "R" in c.notation]
+    choked = [c for c in cands if c.chokes > 0]
+    if not resistive or not choked:
+        return None
+    r = min(resistive, key=lambda c: c.cost)
+    comparable = [c for c in choked if c.objectives["hum_db"] <= r.objectives["hum_db"] + 1.0]
+    ch = min(comparable or choked, key=lambda c: (c.cost if comparable else
+                                                 c.objectives["hum_db"]))
+    return {"resistor": r, "choke": ch, "comparable_hum": bool(comparable)}
+
+
+def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
+               progress=None) -> SynthResult:
+    """Search ``brief`` for its Pareto set of buildable designs (see module docstring).
+
+    ``progress(generation, generations, best)`` is called after every generation with
+    the best value of each objective among feasible candidates so far (or None).
+    """
+    from pymoo.algorithms.moo.nsga2 import NSGA2
+    from pymoo.core.callback import Callback
+    from pymoo.operators.crossover.sbx import SBX
+    from pymoo.operators.mutation.pm import PM
+    from pymoo.operators.repair.rounding import RoundingRepair
+    from pymoo.operators.sampling.rnd import IntegerRandomSampling
+    from pymoo.optimize import minimize
+
+    from .explain import explain
+    from .problem import init_worker, make_problem
+
+    opt = options or SynthOptions()
+    space = build_space(brief, catalog)
+    archive = _Archive()
+    pool = None
+    if opt.workers > 1:
+        import multiprocessing as mp
+        from concurrent.futures import ProcessPoolExecutor
+
+        pool = ProcessPoolExecutor(opt.workers, mp_context=mp.get_context("fork"),
+                                   initializer=init_worker, initargs=(space,))
+    try:
+        if space.n_var == 0:
+            X_all = np.zeros((1, 0), dtype=int)
+        else:
+            problem = make_problem(space, OBJECTIVES, pool=pool, workers=opt.workers)
+            cols = [OBJECTIVES.index(o) for o in opt.objectives]
+
+            class Track(Callback):
+                seen = 0
+
+                def notify(self, algorithm):
+                    for res in problem.history[self.seen:]:
+                        archive.add(res.dec_X, res.scores.F, res.scores.G)
+                    self.seen = len(problem.history)
+                    if progress is not None:
+                        _, F, G = archive.arrays()
+                        ok = np.all(G <= 0, axis=1)
+                        progress(algorithm.n_gen, opt.generations,
+                                 F[ok].min(axis=0) if ok.any() else None)
+
+            algorithm = NSGA2(
+                pop_size=opt.pop_size, sampling=IntegerRandomSampling(),
+                crossover=SBX(prob=0.9, eta=15, vtype=float, repair=RoundingRepair()),
+                mutation=PM(eta=20, vtype=float, repair=RoundingRepair()),
+                eliminate_duplicates=True)
+            problem.objective_columns = cols
+            minimize(problem, algorithm, ("n_gen", opt.generations), seed=opt.seed,
+                     callback=Track(), verbose=False)
+            X_all, F_all, G_all = archive.arrays()
+    finally:
+        if pool is not None:
+            pool.shutdown()
+    if space.n_var == 0:
+        F_all = np.zeros((1, len(OBJECTIVES)))
+        G_all = np.zeros((1, 1))
+    cols = [OBJECTIVES.index(o) for o in opt.objectives]
+    feasible = np.all(G_all <= 0, axis=1)
+    result = SynthResult(brief=brief, designs=[], picks={}, comparison=None, explanation=[],
+                         evaluations=len(X_all), generations=opt.generations,
+                         currency=space.currency, objectives=opt.objectives,
+                         archive_feasible=int(feasible.sum()))
+    if not feasible.any() and space.n_var > 0:
+        result.explanation = explain(space, X_all, F_all, G_all)
+        return result
+    rows = np.flatnonzero(feasible) if space.n_var > 0 else np.array([0])
+    front = rows[_nondominated(F_all[rows][:, cols])]
+    # the choke-against-resistor comparison wants the best of both kinds, on the front
+    # or not: add the cheapest feasible all-resistor and with-choke candidates
+    extra = _best_of_kinds(space, X_all, F_all, rows)
+    chosen = np.unique(np.concatenate([front, extra]))
+    dec, sc, designs, full, idle = _verify(space, X_all[chosen], opt.verify_steps)
+    cands = [_candidate(space, dec, sc, j, designs[j], full, idle, opt.objectives)
+             for j in range(len(chosen))]
+    ok = [c for c in cands if c.feasible]
+    if not ok:
+        result.explanation = ["Candidates met the brief in the fast search but none held "
+                              "when re-evaluated accurately; try a larger search."]
+        return result
+    Fv = np.array([[c.objectives[o] for o in opt.objectives] for c in ok])
+    front_v = set(_nondominated(Fv).tolist())
+    on_front = [c for k, c in enumerate(ok) if k in front_v]
+    on_front.sort(key=lambda c: c.cost)
+    result.designs = on_front
+    result.picks = _picks(on_front)
+    result.comparison = _comparison(ok)
+    return result
+
+
+def _best_of_kinds(space: SearchSpace, X: np.ndarray, F: np.ndarray,
+                   rows: np.ndarray) -> np.ndarray:
+    if len(rows) == 0 or space.n_var == 0:
+        return np.array([], dtype=int)
+    dec = decode(space, X[rows])
+    has_choke = np.any(dec.kind == KIND_CHOKE, axis=1)
+    cost = F[rows, OBJECTIVES.index("cost")]
+    out = []
+    for mask in (has_choke, ~has_choke):
+        if mask.any():
+            out.append(rows[mask][np.argmin(cost[mask])])
+    return np.array(out, dtype=int)

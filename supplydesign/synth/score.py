@@ -1,0 +1,208 @@
+"""From a population's figures to parts, cost, objectives and constraints (arrays).
+
+Objectives (all minimised):
+
+- ``hum_db``: the worst rail's ripple over its allowance, 20 log10(ripple / hum) [dB];
+- ``regulation_pct``: the worst rail's DC change from idle to full-signal current,
+  in % of the full-signal DC;
+- ``peak``: rectifier peak current per anode over its rating (a ratio), or in A
+  where the rectifier has no rating;
+- ``cost``: the price of every part the search chooses plus the brief's priced parts.
+
+Constraints are columns of G, feasible where <= 0, each named for explanations.
+Part ratings follow common practice: a capacitor rated for the no-load voltage at
+high mains plus ``CAP_VOLTAGE_MARGIN``; a resistor of at least twice its
+dissipation (``RESISTOR_POWER_FACTOR``).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .space import KIND_CHOKE, KIND_RESISTOR, KIND_WIRE, Decoded, SearchSpace
+
+OBJECTIVES = ("hum_db", "regulation_pct", "peak", "cost")
+#: margin of a capacitor's voltage rating over the no-load crest at high mains
+CAP_VOLTAGE_MARGIN = 0.10
+#: resistor power rating over its dissipation [practice: "twice the dissipation"]
+RESISTOR_POWER_FACTOR = 2.0
+
+
+def no_load_crest_v(space: SearchSpace, dec: Decoded) -> np.ndarray:
+    """Highest capacitor voltage with the valves cold at high mains [V], (n,).
+
+    With no load every capacitor charges to the crest of the open-circuit voltage
+    (the rectifier's drop at vanishing current is negligible).
+    """
+    voc = np.array([t.open_circuit_v for t in space.transformers])[dec.transformer]
+    return np.sqrt(2.0) * voc * (1.0 + space.brief.mains.high)
+
+
+def choose_capacitors(space: SearchSpace, dec: Decoded) -> tuple[np.ndarray, np.ndarray]:
+    """For every open capacitor, the cheapest part of its capacitance rated for the
+    no-load crest plus the margin; where none is, the highest-rated one (the voltage
+    constraint then fails). Returns part rows (n, R) (-1 where not open) and their ESR."""
+    cp = space.capacitors
+    need = no_load_crest_v(space, dec) * (1.0 + CAP_VOLTAGE_MARGIN)  # (n,)
+    n, R = dec.capacitance.shape
+    rows = np.full((n, R), -1)
+    esr = np.full((n, R), np.nan)
+    for i, rs in enumerate(space.rails):
+        if not rs.cap_open:
+            continue
+        same = cp["capacitance_f"][None, :] == dec.capacitance[:, i, None]  # (n, parts)
+        rated = cp["voltage_rating_v"][None, :] >= need[:, None]
+        price = np.where(same & rated, cp["price"][None, :], np.inf)
+        best = np.argmin(price, axis=1)
+        fallback = np.argmax(np.where(same, cp["voltage_rating_v"][None, :], -np.inf), axis=1)
+        rows[:, i] = np.where(np.isfinite(price[np.arange(n), best]), best, fallback)
+        esr[:, i] = cp["esr_ohm"][rows[:, i]]
+    return rows, esr
+
+
+def rectifier_pieces(rect) -> int:
+    """How many catalog pieces a rectifier takes: one valve, or a diode per junction."""
+    if rect.kind == "valve":
+        return 1
+    return {"full-wave": 2, "bridge": 4, "half-wave": 1}[rect.arrangement]
+
+
+@dataclass
+class Scores:
+    F: np.ndarray  # (n, 4) objectives, in OBJECTIVES order
+    G: np.ndarray  # (n, m) constraints, <= 0 feasible
+    names: list[str]  # of the G columns
+    cost: np.ndarray  # (n,)
+    resistor_class: np.ndarray  # (n, R) row of space.resistor_classes, -1 where none
+    capacitor: np.ndarray  # (n, R) row of space.capacitors, -1 where not open
+
+    @property
+    def feasible(self) -> np.ndarray:
+        return np.all(self.G <= 0.0, axis=1)
+
+    def parts(self) -> dict:
+        return {"resistor_class": self.resistor_class, "capacitor": self.capacitor}
+
+
+def _ratio(x: np.ndarray, limit) -> np.ndarray:
+    """x / limit - 1, or -1 (satisfied) where the limit or the quantity is not given."""
+    limit = np.asarray(limit, dtype=float)
+    x = np.asarray(x, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        r = x / limit - 1.0
+    return np.where(np.isfinite(limit) & (limit > 0) & np.isfinite(x), r, -1.0)
+
+
+def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> Scores:
+    """Objectives and constraints of a population from its full-load and idle figures
+    (:class:`~supplydesign.analysis.FigureArrays` or anything with the same arrays)."""
+    brief = space.brief
+    n, R = dec.kind.shape
+    cols: list[np.ndarray] = []
+    names: list[str] = []
+
+    def add(name: str, values: np.ndarray) -> None:
+        names.append(name)
+        cols.append(np.broadcast_to(values, (n,)).astype(float))
+
+    cost = np.zeros(n)
+    rc = space.resistor_classes
+    res_class = np.full((n, R), -1)
+    hum_terms = []
+    for i, rail in enumerate(brief.rails):
+        label = f'rail "{rail.name}"'
+        dc, ripple = full.dc_v[:, i], full.ripple_rms_v[:, i]
+        if rail.voltage_v is not None:
+            add(f"{label} DC", np.abs(dc - rail.voltage_v) / rail.voltage_v - rail.tolerance)
+        if rail.hum_v is not None:
+            add(f"{label} hum", ripple / rail.hum_v - 1.0)
+            hum_terms.append(20.0 * np.log10(np.maximum(ripple, 1e-12) / rail.hum_v))
+        # capacitor: voltage (no-load crest at high mains plus margin) and ripple current
+        rs = space.rails[i]
+        v_need = no_load_crest_v(space, dec) * (1.0 + CAP_VOLTAGE_MARGIN)
+        if rs.cap_open:
+            row = caprow[:, i]
+            cp = space.capacitors
+            add(f"{label} capacitor voltage", _ratio(v_need, cp["voltage_rating_v"][row]))
+            add(f"{label} capacitor ripple current",
+                _ratio(full.cap_ripple_rms_a[:, i], cp["ripple_rating_a"][row]))
+            cost += cp["price"][row]
+        elif rail.capacitor is not None:
+            cap = rail.capacitor
+            add(f"{label} capacitor voltage",
+                _ratio(v_need, np.nan if cap.voltage_rating_v is None else cap.voltage_rating_v))
+            add(f"{label} capacitor ripple current",
+                _ratio(full.cap_ripple_rms_a[:, i],
+                       np.nan if cap.ripple_rating_a is None else cap.ripple_rating_a))
+            cost += cap.price or 0.0
+        # link: resistor power class, choke current
+        kind = dec.kind[:, i]
+        if rs.fixed_link is None:
+            p_need = RESISTOR_POWER_FACTOR * full.link_power_w[:, i]
+            v_drop = np.abs(full.link_dc_a[:, i]) * dec.resistance[:, i]
+            ok = (rc["power_w"][None, :] >= p_need[:, None]) & \
+                 (np.nan_to_num(rc["max_voltage_v"], nan=np.inf)[None, :] >= v_drop[:, None])
+            price = np.where(ok, rc["price"][None, :], np.inf)
+            best = np.argmin(price, axis=1)
+            found = np.isfinite(price[np.arange(n), best])
+            biggest = int(np.argmax(rc["power_w"]))
+            cls = np.where(found, best, biggest)
+            is_r = kind == KIND_RESISTOR
+            res_class[:, i] = np.where(is_r, cls, -1)
+            add(f"{label} resistor power", np.where(is_r, _ratio(p_need, rc["power_w"][cls]), -1))
+            is_l = kind == KIND_CHOKE
+            rows = np.maximum(dec.choke[:, i], 0)
+            add(f"{label} choke current",
+                np.where(is_l, _ratio(np.abs(full.link_dc_a[:, i]),
+                                      space.chokes["current_rating_a"][rows]), -1.0))
+            cost += np.where(is_r, rc["price"][cls], 0.0)
+            cost += np.where(is_l, space.chokes["price"][rows], 0.0)
+        else:
+            link = rs.fixed_link
+            if link.kind == "resistor":
+                add(f"{label} resistor power",
+                    _ratio(RESISTOR_POWER_FACTOR * full.link_power_w[:, i],
+                           np.nan if link.power_w is None else link.power_w))
+            elif link.kind == "choke":
+                add(f"{label} choke current",
+                    _ratio(np.abs(full.link_dc_a[:, i]),
+                           np.nan if link.current_rating_a is None else link.current_rating_a))
+            cost += link.price or 0.0
+    tr = space.transformers
+    rect = space.rectifiers
+    cost += np.array([t.price or 0.0 for t in tr])[dec.transformer]
+    cost += np.array([(r.price or 0.0) * rectifier_pieces(r) for r in rect])[dec.rectifier]
+    total_a = np.sum(full.load_a, axis=1)
+    add("transformer DC current",
+        _ratio(total_a, np.array([t.rated_current_a or np.nan for t in tr])[dec.transformer]))
+    max_peak = np.array([r.max_peak_current_a or np.nan for r in rect])[dec.rectifier]
+    add("rectifier peak current", _ratio(full.rect_peak_a, max_peak))
+    first_cap = dec.capacitance[:, 0] if brief.rails[0].capacitor is not None else np.zeros(n)
+    reservoir = np.where(dec.kind[:, 0] == KIND_WIRE, np.nan_to_num(first_cap), 0.0)
+    add("rectifier reservoir capacitance",
+        _ratio(reservoir, np.array([r.max_reservoir_f or np.nan for r in rect])[dec.rectifier]))
+    rs_min = np.array([r.min_source_resistance_ohm or np.nan for r in rect])[dec.rectifier]
+    add("rectifier source resistance",
+        _ratio(rs_min, np.array([t.resistance_ohm for t in tr])[dec.transformer]))
+    # choke input: above the critical inductance L_c = R_L / (3 omega) at idle current
+    omega = 2.0 * np.pi * brief.mains.frequency_hz
+    idle_a = np.maximum(np.sum(idle.load_a, axis=1), 1e-9)
+    l_crit = idle.dc_v[:, 0] / idle_a / (3.0 * omega)
+    add("choke input critical inductance",
+        np.where(dec.kind[:, 0] == KIND_CHOKE,
+                 _ratio(l_crit, np.where(dec.inductance[:, 0] > 0, dec.inductance[:, 0], np.nan)),
+                 -1.0))
+    # objectives
+    if hum_terms:
+        hum_db = np.max(hum_terms, axis=0)
+    else:
+        hum_db = 20.0 * np.log10(np.maximum(full.ripple_rms_v[:, -1], 1e-12))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        reg = np.max(np.abs(idle.dc_v - full.dc_v) / full.dc_v, axis=1) * 100.0
+    peak = np.where(np.isfinite(max_peak), full.rect_peak_a / max_peak, full.rect_peak_a)
+    F = np.stack([hum_db, reg, peak, cost], axis=1)
+    # an unconverged steady state is never feasible
+    add("solver convergence", np.where(full.converged & idle.converged, -1.0, 1.0))
+    return Scores(F, np.stack(cols, axis=1), names, cost, res_class, caprow)
