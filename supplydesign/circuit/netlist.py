@@ -372,26 +372,6 @@ def build(designs: Sequence[Design], case: OperatingCase = NOMINAL) -> Circuit:
     return Circuit(topo, values, freq, tuple(designs))
 
 
-def build_batch(template: Design, n: int,
-                overrides: dict[tuple, dict[str, np.ndarray]] | None = None,
-                case: OperatingCase = NOMINAL) -> Circuit:
-    """A batch of ``n`` designs sharing ``template``'s topology, values set by array.
-
-    Every element starts from the template's value; ``overrides`` maps an element
-    role (``("link", 2)``, ``("cap", 0)``, ``("winding", 1)``, ...) to arrays of its
-    parameters, one entry per design. This is how synthesis builds whole
-    populations without making a Design object per candidate.
-    """
-    topo = topology_of(template)
-    base = element_values(template, topo, case)
-    values = {name: {p: np.full(n, float(v)) for p, v in d.items()} for name, d in base.items()}
-    for e in topo.elements:
-        for p, arr in (overrides or {}).get(e.role, {}).items():
-            values[e.name][p] = np.broadcast_to(np.asarray(arr, dtype=float), (n,)).copy()
-    freq = np.full(n, float(template.mains.frequency_hz))
-    return Circuit(topo, values, freq, ())
-
-
 def group_by_topology(designs: Sequence[Design]) -> list[list[int]]:
     """Indices of ``designs`` grouped by topology, groups in order of first appearance."""
     groups: dict[tuple, list[int]] = {}
