@@ -90,7 +90,10 @@ def parse_quantity(text: object, dimension: str, *, file: str | None = None,
         raise UserError(f"expected {word}, got {text!r} ({q.dimensionality})", file, key) from None
     if not math.isfinite(value):
         raise UserError(f"expected {word}, got the non-finite value {text!r}", file, key)
-    return value
+    # 15 significant figures drop the binary noise of the unit factor ("9 mH" would be
+    # 0.009000000000000001), as the catalog reader does: a value typed in a design and the
+    # same value read from a catalog are then the same float.
+    return float(f"{value:.15g}")
 
 
 def format_si(value: float, unit: str, digits: int = 3) -> str:
