@@ -278,6 +278,8 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
     on_front = [c for k, c in enumerate(ok) if k in front_v]
     on_front.sort(key=lambda c: c.cost)
     result.designs = on_front
+    result.extra["X"] = [X_all[chosen][k] for k, c in enumerate(cands)
+                         if c.feasible and any(c is d for d in on_front)]
     result.picks = _picks(on_front)
     result.comparison = _comparison(ok)
     return result
