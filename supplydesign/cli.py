@@ -99,6 +99,8 @@ def _cmd_synth(args, brief_path: str | None = None) -> int:
             bar.update(task, completed=gen, description=text)
 
         result = synthesize(brief, catalog, options, progress=progress)
+    if result.extra.get("interrupted"):
+        console.print("[bold yellow]Interrupted: the designs below are the best found so far.[/]")
     render_synthesis(console, result, limit=args.show)
     if args.out:
         written = write_run(result, args.out, force=args.force, seed=args.seed)

@@ -241,8 +241,17 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
                 mutation=PM(eta=20, vtype=float, repair=RoundingRepair()),
                 eliminate_duplicates=True)
             problem.objective_columns = cols
-            minimize(problem, algorithm, ("n_gen", opt.generations), seed=opt.seed,
-                     callback=Track(), verbose=False)
+            interrupted = False
+            track = Track()
+            try:
+                minimize(problem, algorithm, ("n_gen", opt.generations), seed=opt.seed,
+                         callback=track, verbose=False)
+            except KeyboardInterrupt:  # keep what was found so far
+                interrupted = True
+                for res in problem.history[track.seen:]:
+                    archive.add(res.dec_X, res.scores.F, res.scores.G)
+            if not archive.X:
+                raise KeyboardInterrupt
             X_all, F_all, G_all = archive.arrays()
     finally:
         if pool is not None:
@@ -250,12 +259,14 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
     if space.n_var == 0:
         F_all = np.zeros((1, len(OBJECTIVES)))
         G_all = np.zeros((1, 1))
+        interrupted = False
     cols = [OBJECTIVES.index(o) for o in opt.objectives]
     feasible = np.all(G_all <= 0, axis=1)
     result = SynthResult(brief=brief, designs=[], picks={}, comparison=None, explanation=[],
                          evaluations=len(X_all), generations=opt.generations,
                          currency=space.currency, objectives=opt.objectives,
-                         archive_feasible=int(feasible.sum()))
+                         archive_feasible=int(feasible.sum()),
+                         extra={"interrupted": interrupted})
     if not feasible.any() and space.n_var > 0:
         result.explanation = explain(space, X_all, F_all, G_all)
         return result
