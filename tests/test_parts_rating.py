@@ -133,6 +133,17 @@ def test_capacitor_rating_follows_the_high_mains_no_load_peak(pool):
     assert chosen(rated, "b")[0].part == "T-47-600"
 
 
+def test_a_switch_on_peak_can_drive_the_capacitor_rating(pool):
+    rated = rate_design(design(), *stresses(peak_a_cold=452.0), pool, RULES,
+                        extra_peaks={"a": (470.0, "switch-on")})
+    # 470 V x 1.1 = 517 V -> 550 V; a lower extra peak changes nothing
+    assert chosen(rated, "a")[0].part == "T-100-550"
+    assert "470 V peak at switch-on" in rated.reasons[("a", "capacitor")]
+    rated = rate_design(design(), *stresses(peak_a_cold=452.0), pool, RULES,
+                        extra_peaks={"a": (300.0, "switch-on")})
+    assert chosen(rated, "a")[0].part == "T-100-500"
+
+
 def test_margin_is_a_rule(pool):
     rated = rate_design(design(), *stresses(peak_a_cold=452.0), pool,
                         replace(RULES, voltage_margin=0.0))
@@ -204,6 +215,27 @@ def test_choke_current_rating_and_dcr(pool):
     assert chosen(rated, "c")[1].part == "T-10H-250"  # 160 ohm is above the design's DCR
     rated = rate_design(design(), *stresses(choke_dc=0.3), pool, RULES)
     assert ("c", "link") in rated.unmet
+
+
+def test_a_stated_adequate_rating_is_kept_when_the_catalog_has_nothing(pool):
+    d = design()
+    d = d.with_rails([*d.rails[:2], replace(d.rails[2], link=replace(
+        d.rails[2].link, inductance_h=7.0, current_rating_a=0.2))])
+    rated = rate_design(d, *stresses(choke_dc=0.12), pool, RULES)
+    # no 7 H choke in the catalog; the design's own 200 mA rating covers 120 mA
+    assert ("c", "link") not in rated.unmet
+    assert rated.reasons[("c", "link")].startswith("kept as given (200 mA)")
+    assert chosen(rated, "c")[1] == d.rails[2].link
+    rated = rate_design(d, *stresses(choke_dc=0.25), pool, RULES)
+    assert ("c", "link") in rated.unmet  # 250 mA exceeds its own rating
+    # a capacitor value the catalog lacks, with stated ratings: kept only if they suffice
+    d = design()
+    own = Capacitor(82e-6, 1.0, voltage_rating_v=500.0, ripple_rating_a=1.0)
+    d = d.with_rails([replace(d.rails[0], capacitor=own), *d.rails[1:]])
+    assert ("a", "capacitor") not in rate_design(d, *stresses(peak_a_cold=452.0), pool,
+                                                 RULES).unmet  # 497.2 V <= 500 V
+    assert ("a", "capacitor") in rate_design(d, *stresses(peak_a_cold=460.0), pool,
+                                             RULES).unmet  # 506 V > 500 V
 
 
 def test_price_sums_the_chosen_parts_and_comments_group_by_rail(pool):

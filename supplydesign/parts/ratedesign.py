@@ -14,7 +14,7 @@ codes and licensed practice).
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
 
 from ..design import Capacitor, Design, Link, Rail
@@ -45,6 +45,7 @@ CASE_WORDS = {
     "low_mains_full_load": "low mains, full load",
 }
 NOT_MET = "NO ADEQUATE PART"
+KEPT = "kept as given"
 
 
 def high_mains_no_load(design: Design):
@@ -61,14 +62,16 @@ class Rated:
     Attributes
     ----------
     design : Design
-        The design with the chosen parts filled in (unchanged where nothing
-        in the pool is adequate).
+        The design with the chosen parts filled in. Where nothing in the pool
+        is adequate the design's part stays: "kept as given" when its own
+        stated ratings cover the stresses, else unmet.
     reasons : dict
         (rail name, "capacitor" or "link") -> one line saying why.
     unmet : tuple
         The (rail name, element) keys for which no part is adequate.
     price : float
-        Sum of the prices of the chosen parts (capacitors and links).
+        Sum of the prices of the chosen parts (capacitors and links; a part
+        kept as given without a price counts nothing).
     currency : str or None
     """
 
@@ -108,9 +111,19 @@ def _part_fields(chosen: dict) -> dict:
             "price": chosen["price"], "currency": chosen["currency"]}
 
 
-def _capacitor(design: Design, rail: Rail, cases, pool: Pool, rules: RatingRules):
+def _not_found(part, what: str, stress: str, own: str | None):
+    """Nothing in the pool fits: keep the design's part, adequate if its stated ratings are."""
+    if own is not None:
+        return part, f"{KEPT} ({own}): no {what} in the catalog; {stress}"
+    return part, f"{NOT_MET}: no {what} for {stress}"
+
+
+def _capacitor(design: Design, rail: Rail, cases, pool: Pool, rules: RatingRules,
+               extra_peak: tuple[float, str] | None):
     cap = rail.capacitor
     peak, peak_case = _worst(cases, rail.name, "peak_v")
+    if extra_peak is not None and extra_peak[0] > peak:
+        peak, peak_case = extra_peak
     ripple, ripple_case = _worst(cases, rail.name, "cap_ripple_rms_a")
     need_v = peak * (1.0 + rules.voltage_margin)
     freq = float(ripple_fundamental_hz(design.mains.frequency_hz, design.rectifier.arrangement))
@@ -121,7 +134,10 @@ def _capacitor(design: Design, rail: Rail, cases, pool: Pool, rules: RatingRules
               f"ripple {format_si(ripple, 'A')} rms ({format_si(freq, 'Hz')}) "
               f"at {_words(ripple_case)}")
     if not picks.found[0]:
-        return cap, f"{NOT_MET}: no {format_si(cap.capacitance_f, 'F')} capacitor for {stress}"
+        v, i = cap.voltage_rating_v, cap.ripple_rating_a
+        own = (f"{format_si(v, 'V')}, {format_si(i, 'A')} at {format_si(RATING_HZ, 'Hz')}"
+               if v is not None and i is not None and v >= need_v and i * k >= ripple else None)
+        return _not_found(cap, f"{format_si(cap.capacitance_f, 'F')} capacitor", stress, own)
     c = row(pool.capacitor, int(picks.index[0]))
     derate = "" if k == 1.0 else f" x {k:g} at {format_si(freq, 'Hz')}"
     new = replace(cap, capacitance_f=c["capacitance_f"], esr_ohm=c["esr_ohm"],
@@ -140,7 +156,9 @@ def _choke(rail: Rail, cases, pool: Pool):
              f"{format_si(link.resistance_ohm, 'Ω')}")
     stress = f"{format_si(dc, 'A')} DC at {_words(case)}"
     if not picks.found[0]:
-        return link, f"{NOT_MET}: no choke of {value} for {stress}"
+        rating = link.current_rating_a
+        own = format_si(rating, "A") if rating is not None and rating >= dc else None
+        return _not_found(link, f"choke of {value}", stress, own)
     c = row(pool.choke, int(picks.index[0]))
     new = replace(link, inductance_h=c["inductance_h"], resistance_ohm=c["resistance_ohm"],
                   current_rating_a=c["current_rating_a"], **_part_fields(c))
@@ -174,9 +192,9 @@ def _resistor(design: Design, rail: Rail, cases, pool: Pool, rules: RatingRules)
     picks = choose_resistors(pool.resistor, link.resistance_ohm, need_w, volts)
     stress = (f"{rules.power_factor:g} x {format_si(power, 'W')} dissipated at {_words(case)} "
               f"= {format_si(need_w, 'W')}; up to {format_si(volts, 'V')} across")
-    if not picks.found[0]:
-        return link, (f"{NOT_MET}: no {format_si(link.resistance_ohm, 'Ω')} resistor class "
-                      f"for {stress}")
+    if not picks.found[0]:  # a design's resistor states no voltage limit: never kept
+        return _not_found(link, f"{format_si(link.resistance_ohm, 'Ω')} resistor class",
+                          stress, None)
     c = row(pool.resistor, int(picks.index[0]))
     new = replace(link, power_w=c["power_w"], **_part_fields(c))
     return new, (f"{format_si(c['power_w'], 'W')} part {_label(c)}: {stress}, "
@@ -184,7 +202,8 @@ def _resistor(design: Design, rail: Rail, cases, pool: Pool, rules: RatingRules)
 
 
 def rate_design(design: Design, nominal: Figures, no_load: Figures, pool: Pool,
-                rules: RatingRules = RULES, extra: Sequence[Figures] = ()) -> Rated:
+                rules: RatingRules = RULES, extra: Sequence[Figures] = (),
+                extra_peaks: Mapping[str, tuple[float, str]] | None = None) -> Rated:
     """Choose the cheapest adequate capacitor, resistor and choke of every rail.
 
     Parameters
@@ -204,6 +223,10 @@ def rate_design(design: Design, nominal: Figures, no_load: Figures, pool: Pool,
         Margins.
     extra : sequence of Figures
         Further cases; every stress is the worst over all cases given.
+    extra_peaks : mapping, optional
+        Rail name -> (voltage [V], words naming when it occurs), for capacitor
+        voltages that no steady-state case shows, such as the peak after
+        switch-on: ``{"plates": (530.2, "switch-on")}``.
 
     Returns
     -------
@@ -218,7 +241,8 @@ def rate_design(design: Design, nominal: Figures, no_load: Figures, pool: Pool,
         link, cap = rail.link, rail.capacitor
         found: dict[str, tuple] = {}
         if cap is not None:
-            cap, text = _capacitor(design, rail, cases, pool, rules)
+            cap, text = _capacitor(design, rail, cases, pool, rules,
+                                   (extra_peaks or {}).get(rail.name))
             found["capacitor"] = (cap, text)
         if link.kind == "choke":
             link, text = _choke(rail, cases, pool)
@@ -231,7 +255,7 @@ def rate_design(design: Design, nominal: Figures, no_load: Figures, pool: Pool,
             if text.startswith(NOT_MET):
                 unmet.append((rail.name, element))
             else:
-                price += part.price
+                price += part.price or 0.0  # a part kept as given may have no price
         rails.append(replace(rail, link=link, capacitor=cap))
     return Rated(design.with_rails(rails), reasons, tuple(unmet), price, pool.currency)
 
