@@ -21,13 +21,16 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..parts.rating import RULES
+from ..parts.rating import choose_capacitors as cheapest_capacitors
+from ..parts.rating import choose_resistors as cheapest_resistors
 from .space import KIND_CHOKE, KIND_RESISTOR, KIND_WIRE, Decoded, SearchSpace
 
 OBJECTIVES = ("hum_db", "regulation_pct", "peak", "cost")
 #: margin of a capacitor's voltage rating over the no-load crest at high mains
-CAP_VOLTAGE_MARGIN = 0.10
+CAP_VOLTAGE_MARGIN = RULES.voltage_margin
 #: resistor power rating over its dissipation [practice: "twice the dissipation"]
-RESISTOR_POWER_FACTOR = 2.0
+RESISTOR_POWER_FACTOR = RULES.power_factor
 
 
 def no_load_crest_v(space: SearchSpace, dec: Decoded) -> np.ndarray:
@@ -52,12 +55,11 @@ def choose_capacitors(space: SearchSpace, dec: Decoded) -> tuple[np.ndarray, np.
     for i, rs in enumerate(space.rails):
         if not rs.cap_open:
             continue
-        same = cp["capacitance_f"][None, :] == dec.capacitance[:, i, None]  # (n, parts)
-        rated = cp["voltage_rating_v"][None, :] >= need[:, None]
-        price = np.where(same & rated, cp["price"][None, :], np.inf)
-        best = np.argmin(price, axis=1)
+        # the ripple current is not known before the solve: checked as a constraint after
+        picks = cheapest_capacitors(cp, dec.capacitance[:, i], need, 0.0)
+        same = cp["capacitance_f"][None, :] == dec.capacitance[:, i, None]
         fallback = np.argmax(np.where(same, cp["voltage_rating_v"][None, :], -np.inf), axis=1)
-        rows[:, i] = np.where(np.isfinite(price[np.arange(n), best]), best, fallback)
+        rows[:, i] = np.where(picks.found, picks.index, fallback)
         esr[:, i] = cp["esr_ohm"][rows[:, i]]
     return rows, esr
 
@@ -142,16 +144,14 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
         if rs.fixed_link is None:
             p_need = RESISTOR_POWER_FACTOR * full.link_power_w[:, i]
             v_drop = np.abs(full.link_dc_a[:, i]) * dec.resistance[:, i]
-            ok = (rc["power_w"][None, :] >= p_need[:, None]) & \
-                 (np.nan_to_num(rc["max_voltage_v"], nan=np.inf)[None, :] >= v_drop[:, None])
-            price = np.where(ok, rc["price"][None, :], np.inf)
-            best = np.argmin(price, axis=1)
-            found = np.isfinite(price[np.arange(n), best])
-            biggest = int(np.argmax(rc["power_w"]))
-            cls = np.where(found, best, biggest)
+            picks = cheapest_resistors(rc, dec.resistance[:, i], p_need, v_drop)
+            cls = np.where(picks.found, picks.index, int(np.argmax(rc["power_w"])))
             is_r = kind == KIND_RESISTOR
             res_class[:, i] = np.where(is_r, cls, -1)
-            add(f"{label} resistor power", np.where(is_r, _ratio(p_need, rc["power_w"][cls]), -1))
+            # no adequate class (power, voltage or value range): violated at least by 0.1
+            need = _ratio(p_need, rc["power_w"][cls])
+            add(f"{label} resistor rating",
+                np.where(is_r, np.where(picks.found, need, np.maximum(need, 0.1)), -1.0))
             is_l = kind == KIND_CHOKE
             rows = np.maximum(dec.choke[:, i], 0)
             add(f"{label} choke current",
@@ -162,7 +162,7 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
         else:
             link = rs.fixed_link
             if link.kind == "resistor":
-                add(f"{label} resistor power",
+                add(f"{label} resistor rating",
                     _ratio(RESISTOR_POWER_FACTOR * full.link_power_w[:, i],
                            np.nan if link.power_w is None else link.power_w))
             elif link.kind == "choke":

@@ -21,7 +21,8 @@ import numpy as np
 
 from ..design import Capacitor, Design, Link, Rectifier, Transformer
 from ..errors import UserError
-from ..parts import eseries, eseries_capacitors, eseries_resistors, merge_tables
+from ..parts import eseries
+from ..parts.rating import candidate_pool
 
 KIND_WIRE, KIND_RESISTOR, KIND_CHOKE = 0, 1, 2
 KIND_NAMES = {KIND_WIRE: "wire", KIND_RESISTOR: "resistor", KIND_CHOKE: "choke"}
@@ -99,7 +100,7 @@ def _resolve_rectifiers(brief: Design, transformers: list[Transformer], catalog)
     return out
 
 
-def build_space(brief: Design, catalog, *, capacitor_series: str = "E6") -> SearchSpace:
+def build_space(brief: Design, catalog) -> SearchSpace:
     """The search space of ``brief`` with parts from ``catalog`` (a parts.Catalog)."""
     transformers = _resolve_transformers(brief, catalog)
     rectifiers = _resolve_rectifiers(brief, transformers, catalog)
@@ -108,15 +109,13 @@ def build_space(brief: Design, catalog, *, capacitor_series: str = "E6") -> Sear
             if (t.winding == "center-tapped") != (r.arrangement == "full-wave"):
                 raise UserError(f"transformer {t.part or ''} ({t.winding}) cannot feed rectifier "
                                 f"{r.part or ''} ({r.arrangement})", brief.source, "rectifier")
-    caps = merge_tables(catalog.table("capacitor"), eseries_capacitors(capacitor_series))
-    res_classes = catalog.table("resistor")
-    resistor_classes = merge_tables(res_classes, eseries_resistors(None, "E24", 10.0, 10.0))
-    chokes = catalog.table("choke")
+    pool = candidate_pool(catalog)  # catalog parts plus E-series parts of the price model
+    caps, chokes = pool.capacitor, pool.choke
     space = SearchSpace(
         brief=brief, transformers=transformers, rectifiers=rectifiers, rails=[],
         resistor_values=eseries.values("E24", R_MIN, R_MAX), chokes=chokes, capacitors=caps,
-        capacitances=np.unique(caps["capacitance_f"]), resistor_classes=resistor_classes,
-        currency=catalog.currency)
+        capacitances=np.unique(caps["capacitance_f"]), resistor_classes=pool.resistor,
+        currency=pool.currency or catalog.currency)
     var = space.variables
     if len(transformers) > 1:
         space.var_transformer = len(var)
