@@ -167,6 +167,18 @@ def _choke(rail: Rail, cases, pool: Pool):
                  f" (design {format_si(link.resistance_ohm, 'Ω')})")
 
 
+def crest_v(design: Design) -> float:
+    """Crest of the open-circuit winding voltage at the high mains limit [V].
+
+    sqrt(2) x open-circuit rms x (1 + high): per half of a center-tapped
+    winding, or of the whole winding for a bridge or half-wave. No rail of a
+    steady state without load rises above it (no arrangement here multiplies
+    the voltage), so it bounds the no-load peaks when their solution is not to
+    be trusted.
+    """
+    return math.sqrt(2.0) * design.transformer.open_circuit_v * (1.0 + design.mains.high)
+
+
 def resistor_voltage(design: Design, rail: Rail, fig: Figures) -> float:
     """Highest steady voltage across a rail's link in one case [V] (an upper bound).
 
@@ -177,7 +189,7 @@ def resistor_voltage(design: Design, rail: Rail, fig: Figures) -> float:
     """
     r = fig.rail(rail.name)
     if rail.parent is None:
-        upstream = math.sqrt(2.0) * design.transformer.open_circuit_v * (1.0 + design.mains.high)
+        upstream = crest_v(design)
     else:
         upstream = fig.rail(rail.parent).peak_v
     drop = abs(r.link_dc_a) * (rail.link.resistance_ohm or 0.0)
@@ -216,13 +228,15 @@ def rate_design(design: Design, nominal: Figures, no_load: Figures, pool: Pool,
     no_load : Figures
         Its figures at the high mains limit with no load, valves cold
         (:func:`high_mains_no_load`): the capacitor voltage is never rated
-        below these peaks.
+        below these peaks. If this solution did not converge, the crest of the
+        open-circuit voltage at high mains (:func:`crest_v`) stands in for them.
     pool : Pool
         Candidate parts (:func:`~supplydesign.parts.rating.candidate_pool`).
     rules : RatingRules
         Margins.
     extra : sequence of Figures
-        Further cases; every stress is the worst over all cases given.
+        Further cases; every stress is the worst over all cases given whose
+        solution converged.
     extra_peaks : mapping, optional
         Rail name -> (voltage [V], words naming when it occurs), for capacitor
         voltages that no steady-state case shows, such as the peak after
@@ -235,14 +249,19 @@ def rate_design(design: Design, nominal: Figures, no_load: Figures, pool: Pool,
     """
     if not design.is_complete():
         raise ValueError(f"rate_design needs a complete design; open: {design.open_choices()}")
-    cases = (nominal, no_load, *extra)
+    # figures of an unconverged solution may be far off either way: left out
+    cases = [f for f in (nominal, no_load, *extra) if f.converged] or [nominal]
+    peaks = dict(extra_peaks or {})
+    if not no_load.converged:  # bound its peaks by the crest instead
+        bound = (crest_v(design), "high mains, no load (the crest of the open-circuit voltage: "
+                                  "the no-load solution did not converge)")
+        peaks = {r.name: max(peaks.get(r.name, bound), bound) for r in design.rails}
     rails, reasons, unmet, price = [], {}, [], 0.0
     for rail in design.rails:
         link, cap = rail.link, rail.capacitor
         found: dict[str, tuple] = {}
         if cap is not None:
-            cap, text = _capacitor(design, rail, cases, pool, rules,
-                                   (extra_peaks or {}).get(rail.name))
+            cap, text = _capacitor(design, rail, cases, pool, rules, peaks.get(rail.name))
             found["capacitor"] = (cap, text)
         if link.kind == "choke":
             link, text = _choke(rail, cases, pool)
