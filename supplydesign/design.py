@@ -59,6 +59,9 @@ class Rectifier:
     max_reservoir_f: float | None = None
     max_surge_current_a: float | None = None
     min_source_resistance_ohm: float | None = None
+    # time from switch-on until the rectifier conducts (a valve's heater warm-up);
+    # None: at once (silicon)
+    warm_up_s: float | None = None
     part: str | None = None
     choose: tuple[str, ...] = ()
     price: float | None = None
@@ -126,6 +129,10 @@ class Rail:
     current_a: float = 0.0  # constant-current load at full signal
     load_resistance_ohm: float | None = None  # or a fixed resistive load instead
     idle_current_a: float | None = None  # default: current_a
+    # resistor from the rail to ground, drawing current also with the valves cold
+    bleeder_ohm: float | None = None
+    # the stage draws nothing for this time after switch-on (its valves warm up)
+    warm_up_s: float | None = None
     # brief targets (kept in designs so evaluate shows margins)
     voltage_v: float | None = None
     tolerance: float = 0.05

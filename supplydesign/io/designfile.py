@@ -68,6 +68,7 @@ MAGNITUDE_LIMIT = {
     "inductance": (1e3, "1000 H"),
     "frequency": (1e4, "10 kHz"),
     "power": (1e5, "100 kW"),
+    "time": (3600.0, "1 h"),
 }
 
 MAINS_KEYS = {
@@ -96,6 +97,8 @@ RECTIFIER_LIMIT_KEYS = {
     "max_reservoir": Quantity("max_reservoir_f", "capacitance"),
     "max_surge_current": Quantity("max_surge_current_a", "current"),
     "min_source_resistance": Quantity("min_source_resistance_ohm", "resistance", positive=False),
+    # not a limit: the time from switch-on until the rectifier conducts
+    "warm_up": Quantity("warm_up_s", "time", positive=False, example="10 s"),
 }
 RESISTOR_KEYS = {
     "resistance": Quantity("resistance_ohm", "resistance"),
@@ -119,6 +122,8 @@ RAIL_KEYS = {
     "voltage": Quantity("voltage_v", "voltage"),
     "tolerance": Quantity("tolerance", "fraction", high=0.99),
     "hum": Quantity("hum_v", "voltage"),
+    "bleeder": Quantity("bleeder_ohm", "resistance", example="220 kohm"),
+    "warm_up": Quantity("warm_up_s", "time", positive=False, example="15 s"),
 }
 #: keys any catalog-able part may carry: its id and its price (a bare number, dimensionless)
 PRICE_KEYS = {"price": Quantity("price", "number", positive=False)}

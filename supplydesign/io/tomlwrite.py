@@ -47,6 +47,7 @@ OUT_UNITS: dict[str, tuple[tuple[str, float], ...]] = {
     "inductance": (("uH", 1e-6), ("mH", 1e-3), ("H", 1.0)),
     "frequency": (("Hz", 1.0), ("kHz", 1e3)),
     "power": (("W", 1.0), ("kW", 1e3)),
+    "time": (("ms", 1e-3), ("s", 1.0)),
     "fraction": (("%", 1e-2),),
 }
 SILICON_DEFAULTS = {"saturation_current_a": SILICON_SATURATION_A,
