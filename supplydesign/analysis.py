@@ -236,6 +236,20 @@ def evaluate_arrays(designs: Sequence[Design], case: OperatingCase = NOMINAL, *,
     return stack_rows(parts, len(designs))
 
 
+def convergence_note(fa: FigureArrays, b: int) -> str:
+    """Why design ``b`` of a batch has no converged steady state ("" when it has one)."""
+    if fa.converged[b]:
+        return ""
+    dc = fa.dc_v[b]
+    if not np.all(np.isfinite(dc)) or not np.isfinite(fa.residual[b]):
+        return "the solution diverged: no periodic steady state was found"
+    if np.any(dc <= 0.0):
+        return ("the supply cannot carry the stage currents: a rail falls to 0 V or below, "
+                "so there is no steady state with these loads")
+    return (f"Newton shooting stopped after {int(fa.iterations[b])} iterations at a residual "
+            f"of {fa.residual[b]:.1e}")
+
+
 def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
                waveforms: bool = False) -> list[Figures]:
     """Figures of every design of a solved batch, as dataclasses."""
@@ -270,7 +284,7 @@ def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
             transformer=TransformerFigures(float(fa.winding_rms_a[b]),
                                            float(fa.winding_power_w[b])),
             converged=bool(fa.converged[b]), iterations=int(fa.iterations[b]),
-            residual=float(fa.residual[b]), waveforms=wf))
+            residual=float(fa.residual[b]), note=convergence_note(fa, b), waveforms=wf))
     return out
 
 

@@ -59,6 +59,7 @@ class Figures:
     converged: bool = True
     iterations: int = 0
     residual: float = 0.0  # final shooting residual, relative to the largest state
+    note: str = ""  # why the steady state did not converge (empty when it did)
     waveforms: Waveforms | None = field(default=None, repr=False)
 
     def rail(self, name: str) -> RailFigures:
