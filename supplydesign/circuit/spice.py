@@ -150,7 +150,7 @@ def probe_vectors(circuit: Circuit) -> dict[str, dict[str, str]]:
 
 
 def _element_lines(e: Element, p: dict[str, float], nodes: _Nodes, law: str,
-                   frequency_hz: float) -> list[str]:
+                   frequency_hz: float, start_phase_deg: float = 0.0) -> list[str]:
     """SPICE lines of one element of the element netlist."""
     a, b = nodes[e.a], nodes[e.b]
     tag = spice_name(e.name)
@@ -182,7 +182,7 @@ def _element_lines(e: Element, p: dict[str, float], nodes: _Nodes, law: str,
         if p["r"] > 0 and p["l"] > 0:
             chain.append(nodes.internal(f"{tag}_r"))
         chain.append(b)
-        phase_deg = math.degrees(e.phase) % 360.0
+        phase_deg = (math.degrees(e.phase) + start_phase_deg) % 360.0
         lines = [f"V_{tag} {chain[0]} {a} SIN(0 {_num(p['emf'])} {_num(frequency_hz)} 0 0 "
                  f"{_num(phase_deg)})"]
         k = 0
@@ -213,7 +213,7 @@ def _element_lines(e: Element, p: dict[str, float], nodes: _Nodes, law: str,
 def netlist(circuit: Circuit, index: int = 0, *, t_stop_s: float, t_step_s: float,
             reltol: float = DEFAULT_RELTOL, title: str | None = None,
             save: Sequence[str] | None = None, t_save_s: float = 0.0,
-            method: str = "gear") -> str:
+            method: str = "gear", start_phase_deg: float = 0.0) -> str:
     """A Berkeley-SPICE netlist of design ``index`` of a batched circuit.
 
     Parameters
@@ -237,6 +237,9 @@ def netlist(circuit: Circuit, index: int = 0, *, t_stop_s: float, t_step_s: floa
         Start of the kept output [s] (the TSTART of ``.tran``).
     method : str
         Integration method, ``"gear"`` (default) or ``"trap"``.
+    start_phase_deg : float
+        Mains phase at t = 0 [degrees], added to every winding's phase: 90 starts
+        at the crest of the first winding (the switch-on case).
 
     Returns
     -------
@@ -265,7 +268,7 @@ def netlist(circuit: Circuit, index: int = 0, *, t_stop_s: float, t_step_s: floa
     ]
     for e in topo.elements:
         p = {k: float(v[index]) for k, v in circuit.values[e.name].items()}
-        out.extend(_element_lines(e, p, nodes, topo.law, freq))
+        out.extend(_element_lines(e, p, nodes, topo.law, freq, start_phase_deg))
     out.append("*")
     out.append(f".options temp=27 tnom=27 reltol={_num(reltol)} method={method}")
     if save:
@@ -448,12 +451,12 @@ def read_raw(path: str | Path) -> dict[str, np.ndarray]:
 def run_ngspice(circuit: Circuit, index: int = 0, *, t_stop_s: float,
                 t_step_s: float = DEFAULT_STEP_S, reltol: float = DEFAULT_RELTOL,
                 timeout_s: float = 120.0, t_save_s: float = 0.0,
-                method: str = "gear") -> SpiceResult:
+                method: str = "gear", start_phase_deg: float = 0.0) -> SpiceResult:
     """Run design ``index`` of ``circuit`` through ``ngspice -b`` from rest.
 
     Parameters
     ----------
-    circuit, index, t_stop_s, t_step_s, reltol, method
+    circuit, index, t_stop_s, t_step_s, reltol, method, start_phase_deg
         As for :func:`netlist`.
     timeout_s : float
         Wall-clock limit of the ngspice process [s].
@@ -477,7 +480,8 @@ def run_ngspice(circuit: Circuit, index: int = 0, *, t_stop_s: float,
     save = [*dict.fromkeys(probes["rails"].values()), *probes["anodes"].values(),
             *probes["windings"].values()]
     text = netlist(circuit, index, t_stop_s=t_stop_s, t_step_s=t_step_s, reltol=reltol,
-                   save=save, t_save_s=t_save_s, method=method)
+                   save=save, t_save_s=t_save_s, method=method,
+                   start_phase_deg=start_phase_deg)
     with tempfile.TemporaryDirectory(prefix="supplydesign-spice-") as tmp:
         cir, raw, log = Path(tmp, "circuit.cir"), Path(tmp, "out.raw"), Path(tmp, "ngspice.log")
         cir.write_text(text, encoding="utf-8")

@@ -1,0 +1,223 @@
+"""Operating cases at the limits of the mains: steady states of whole batches.
+
+Each design carries its own mains limits (``[mains] low/high``), so a case is
+named by *which* limit it takes (``"nominal"``, ``"high"``, ``"low"``) and
+which load the stages draw (``"full"``, ``"idle"``, ``"none"``: valves cold).
+The circuit of a case is built as in :mod:`supplydesign.circuit.netlist`, with
+each design's winding emfs scaled by its own mains factor.
+
+With no load the periodic steady state is nearly singular (the rectifier
+conducts for an instant per cycle, to replace what the junction conductances
+leak), and the default starting guess of a choke-input filter (the mean of the
+rectified sine) is far from it (the crest). The no-load case therefore starts
+Newton from every capacitor at the crest. A choke input without load may still
+not converge (the choke rings with the stray capacitances between the brief
+conduction instants); :mod:`supplydesign.worstcase` then bounds its figures.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from .analysis import FigureArrays, Solved, figure_arrays, figures_of
+from .circuit.netlist import Circuit, OperatingCase, build, group_by_topology
+from .circuit.statespace import build_state_space
+from .circuit.steady import STEPS_PER_PERIOD, initial_guess, periodic_steady_state
+from .design import Design
+from .figures import Figures
+
+
+@dataclass(frozen=True)
+class Case:
+    """An operating case: which mains limit and which stage load."""
+
+    name: str
+    mains: str  # "nominal", "high" or "low"
+    load: str  # "full", "idle" or "none"
+
+
+#: Newton iterations at most without load (see solve_circuit)
+NO_LOAD_ITERATIONS = 20
+
+NOMINAL = Case("nominal", "nominal", "full")
+IDLE = Case("idle", "nominal", "idle")
+HIGH_MAINS_NO_LOAD = Case("high_mains_no_load", "high", "none")
+HIGH_MAINS_IDLE = Case("high_mains_idle", "high", "idle")
+LOW_MAINS_FULL_LOAD = Case("low_mains_full_load", "low", "full")
+#: the cases of the shared contract's "cases" object, in its order
+WORST_CASES = (HIGH_MAINS_NO_LOAD, HIGH_MAINS_IDLE, LOW_MAINS_FULL_LOAD)
+
+
+def mains_factors(designs: Sequence[Design], mains: str) -> np.ndarray:
+    """Each design's open-circuit voltage factor at a mains limit, shape (B,)."""
+    if mains == "nominal":
+        return np.ones(len(designs))
+    if mains == "high":
+        return np.array([1.0 + d.mains.high for d in designs])
+    if mains == "low":
+        return np.array([1.0 - d.mains.low for d in designs])
+    raise ValueError(f"unknown mains limit {mains!r}")
+
+
+def case_circuit(designs: Sequence[Design], case: Case) -> Circuit:
+    """The batched circuit of designs of one topology in ``case``."""
+    circuit = build(list(designs), OperatingCase(case.name, 1.0, case.load))
+    factor = mains_factors(designs, case.mains)
+    for e in circuit.topology.of_kind("W"):
+        circuit.values[e.name]["emf"] = circuit.values[e.name]["emf"] * factor
+    return circuit
+
+
+def crest_guess(circuit: Circuit, ss=None) -> np.ndarray:
+    """A no-load starting state: the DC estimate, scaled so that its highest node
+    voltage is the crest of the emf. Shape (B, nx)."""
+    ss = build_state_space(circuit) if ss is None else ss
+    x0 = initial_guess(ss)
+    top = np.max(x0[:, : ss.n_dynamic_nodes], axis=1)
+    emf = np.max(np.stack([circuit.value(e.name, "emf")
+                           for e in circuit.topology.of_kind("W")]), axis=0)
+    scale = np.where(top > 0, emf / np.where(top > 0, top, 1.0), 1.0)
+    return x0 * scale[:, None]
+
+
+def solve_circuit(circuit: Circuit, steps: int = STEPS_PER_PERIOD,
+                  x0: np.ndarray | None = None) -> Solved:
+    """Periodic steady state of a built circuit (crest start when no stage draws).
+
+    Without load Newton gets NO_LOAD_ITERATIONS at most: where it has not
+    converged by then it rarely does later, and the caller bounds the figures.
+    """
+    ss = build_state_space(circuit)
+    iterations = {}
+    if _no_load(circuit):
+        iterations = {"max_iter": NO_LOAD_ITERATIONS}
+        if x0 is None:
+            x0 = crest_guess(circuit, ss)
+    return Solved(circuit, periodic_steady_state(ss, steps=steps, x0=x0, **iterations))
+
+
+def _no_load(circuit: Circuit) -> bool:
+    for e in circuit.topology.elements:
+        if e.role and e.role[0] == "load":
+            p = "i" if e.kind == "J" else "r"
+            idle = circuit.value(e.name, p)
+            if np.any(idle != (0.0 if p == "i" else np.inf)):
+                return False
+    return True
+
+
+@dataclass
+class Batch:
+    """Designs ``idx`` (indices into the caller's list) of one topology in one case,
+    held as rows ``rows`` of a solved batch that may carry other cases too."""
+
+    idx: list[int]
+    solved: Solved
+    rows: np.ndarray
+
+    @property
+    def circuit(self) -> Circuit:
+        return self.solved.circuit.subset(self.rows)
+
+    @property
+    def converged(self) -> np.ndarray:
+        return self.solved.steady.converged[self.rows]
+
+    def node_v(self, node: str) -> np.ndarray:
+        """Voltage of ``node`` over the period [V], (K+1, len(idx))."""
+        return self.solved.node_v(node)[:, self.rows]
+
+
+@dataclass
+class CaseResult:
+    """One case for designs of any topologies: figure arrays in design order, and the
+    solved batches for reading waveforms."""
+
+    case: Case
+    arrays: FigureArrays
+    batches: list[Batch]
+
+    def figures(self) -> list[Figures]:
+        """The figures of every design as :class:`~supplydesign.figures.Figures`."""
+        out: list = [None] * len(self.arrays.converged)
+        for b in self.batches:
+            every = figures_of(b.solved, OperatingCase(self.case.name))
+            for i, row in zip(b.idx, b.rows, strict=True):
+                out[i] = every[row]
+        return out
+
+
+def concatenate(circuits: Sequence[Circuit]) -> Circuit:
+    """One batch of several circuits of one topology, in order."""
+    first = circuits[0]
+    values = {name: {p: np.concatenate([c.values[name][p] for c in circuits])
+                     for p in params} for name, params in first.values.items()}
+    return Circuit(first.topology, values,
+                   np.concatenate([c.frequency_hz for c in circuits]),
+                   tuple(d for c in circuits for d in c.designs))
+
+
+def solve_cases(designs: Sequence[Design], cases: Sequence[Case],
+                steps: int = STEPS_PER_PERIOD,
+                adjust=None) -> dict[str, CaseResult]:
+    """Steady state of every design in every case: per topology, all cases in one batch.
+
+    ``adjust(case, circuit)``, when given, may change a case's circuit values in
+    place before the solve (such as loads scaled for a slope).
+    """
+    parts: dict[str, list] = {c.name: [] for c in cases}
+    for idx in group_by_topology(designs):
+        sub = [designs[i] for i in idx]
+        circuits = []
+        for c in cases:
+            circuit = case_circuit(sub, c)
+            if adjust is not None:
+                adjust(c, circuit)
+            circuits.append(circuit)
+        solved = solve_circuit(concatenate(circuits), steps)
+        arrays = figure_arrays(solved)
+        n = len(idx)
+        for k, c in enumerate(cases):
+            rows = np.arange(k * n, (k + 1) * n)
+            parts[c.name].append((Batch(idx, solved, rows), _rows(arrays, rows)))
+    return {c.name: CaseResult(c, _stack(parts[c.name], len(designs)),
+                               [b for b, _ in parts[c.name]]) for c in cases}
+
+
+def solve_case(designs: Sequence[Design], case: Case,
+               steps: int = STEPS_PER_PERIOD) -> CaseResult:
+    """Steady state of every design in ``case``, one batch per topology."""
+    return solve_cases(designs, [case], steps)[case.name]
+
+
+def _rows(arrays: FigureArrays, rows: np.ndarray) -> FigureArrays:
+    return FigureArrays(**{k: getattr(arrays, k)[rows] for k in FigureArrays.__dataclass_fields__})
+
+
+def _stack(parts: list[tuple[Batch, FigureArrays]], n: int) -> FigureArrays:
+    """Figure arrays of several batches in design order; per-rail arrays padded with
+    NaN to the largest rail count."""
+    out = {}
+    for name in FigureArrays.__dataclass_fields__:
+        refs = [getattr(fa, name) for _, fa in parts]
+        width = max(r.shape[1:] for r in refs)
+        fill = np.nan if refs[0].dtype.kind == "f" else 0
+        arr = np.full((n, *width), fill, dtype=refs[0].dtype)
+        for (b, _), ref in zip(parts, refs, strict=True):
+            arr[(np.asarray(b.idx), *(slice(0, k) for k in ref.shape[1:]))] = ref
+        out[name] = arr
+    return FigureArrays(**out)
+
+
+def node_dc(result: CaseResult, node_of) -> np.ndarray:
+    """Mean voltage over the period of one node per design, (B,); ``node_of(topology)``
+    names the node."""
+    from .analysis import detrended, mean
+
+    out = np.full(len(result.arrays.converged), np.nan)
+    for b in result.batches:
+        out[np.asarray(b.idx)] = mean(detrended(b.node_v(node_of(b.solved.circuit.topology))))
+    return out
