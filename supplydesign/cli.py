@@ -32,6 +32,8 @@ def _parser() -> argparse.ArgumentParser:
     ev.add_argument("--steps", type=int, default=512, help="solver steps per mains period")
     ev.add_argument("--force", action="store_true", help="overwrite existing output files")
     ev.add_argument("--quiet", action="store_true", help="no console report")
+    ev.add_argument("--nominal-only", action="store_true",
+                    help="skip the worst cases, switch-on and discharge (faster)")
     cli_parts.add_parsers(sub)
     sy = sub.add_parser("synth", help="search a brief for its Pareto set of buildable designs")
     sy.add_argument("brief", metavar="BRIEF.toml")
@@ -134,18 +136,32 @@ def _cmd_evaluate(args) -> int:
         designs.append(load_design(path, catalog=catalog))
     if args.steps < 64:
         raise UserError("expected at least 64 steps per period", key="--steps")
-    full = evaluate(designs, steps=args.steps)
-    idle = evaluate(designs, IDLE, steps=args.steps)
+    wc = None
+    if args.nominal_only:
+        full = evaluate(designs, steps=args.steps)
+        idle = evaluate(designs, IDLE, steps=args.steps)
+    else:
+        from .worstcase import analyse
+
+        wc = analyse(designs, steps=args.steps)
+        full, idle = wc.cases["nominal"].figures(), wc.cases["idle"].figures()
     if not args.quiet:
+        from functools import partial
+
         from rich.console import Console
 
         from .report.console import render_evaluation
+        from .report.worstcase_console import render_worst_cases
 
         console = Console()
-        for d, f, i in zip(designs, full, idle, strict=True):
-            render_evaluation(console, d, f, i)
+        for b, (d, f, i) in enumerate(zip(designs, full, idle, strict=True)):
+            worst = None if wc is None else partial(render_worst_cases, wc=wc, b=b)
+            render_evaluation(console, d, f, i, worst=worst)
     if args.json:
-        objs = [evaluation_json(f, i) for f, i in zip(full, idle, strict=True)]
+        from .report.worstcase_json import worst_case_json
+
+        objs = [evaluation_json(f, i, None if wc is None else worst_case_json(wc, b))
+                for b, (f, i) in enumerate(zip(full, idle, strict=True))]
         data = objs[0] if len(objs) == 1 else objs
         write_text_atomic(args.json, json.dumps(data, indent=2) + "\n", force=args.force)
     if args.spice:

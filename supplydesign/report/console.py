@@ -92,8 +92,10 @@ def stresses_table(design: Design, full: Figures):
     return t
 
 
-def render_evaluation(console, design: Design, full: Figures, idle: Figures | None) -> None:
-    """Print the evaluation of one design."""
+def render_evaluation(console, design: Design, full: Figures, idle: Figures | None,
+                      worst=None) -> None:
+    """Print the evaluation of one design; ``worst(console)``, when given, prints the
+    worst cases before the cautions."""
     from rich.panel import Panel
 
     console.rule(f"[bold]{design.title}[/]  ({design.source})")
@@ -103,4 +105,6 @@ def render_evaluation(console, design: Design, full: Figures, idle: Figures | No
                       "treat its figures with suspicion.[/]")
     console.print(rails_table(design, full, idle))
     console.print(stresses_table(design, full))
+    if worst is not None:
+        worst(console)
     console.print(Panel("\n".join(CAUTION_LINES), title="Caution", border_style="yellow"))
