@@ -253,14 +253,15 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
             new_key = (h, tuple(phase))
             if new_key != key:
                 mats, key = plant.matrices(h, phase, active), new_key
+                Cy, vscale = plant.Cy[active], plant.vscale[active]
+                params = {k: v[active] for k, v in plant.params.items()}
             s0 = _oscillator(frac)  # the step's forcing starts from the oscillator at its start
             frac += h
             s = _oscillator(frac)
             xu = np.concatenate([x, u], axis=1)[..., None]
             xp = (mats["PhiG0"] @ xu)[..., 0] + mats["Phis"] @ s0
-            b = np.einsum("bpi,bi->bp", plant.Cy[active], xp)
-            params = {k: v[active] for k, v in plant.params.items()}
-            y, u, _ = solve_junctions(b, mats["Z"], y, plant.law, params, plant.vscale[active])
+            b = np.einsum("bpi,bi->bp", Cy, xp)
+            y, u, _ = solve_junctions(b, mats["Z"], y, plant.law, params, vscale)
             x = xp + (mats["G1"] @ u[..., None])[..., 0]
             v = (np.einsum("bri,bi->br", mats["Rx"], x) + mats["Rs"] @ s
                  + np.einsum("brp,bp->br", mats["Ru"], u))
