@@ -98,3 +98,10 @@ def test_infeasible_brief_cli_exit_status(tmp_path, capsys):
     assert main(["synth", str(BRIEFS / "too-high.toml"), "--out", str(tmp_path / "o"),
                  "--population", "8", "--generations", "2"]) == 3
     assert "crest" in capsys.readouterr().out
+
+
+def test_capacitor_exceeded_only_at_high_mains_no_load_is_rejected(catalog):
+    brief = load_design(BRIEFS / "cap-only-high-mains.toml", brief=True, catalog=catalog)
+    res = synthesize(brief, catalog, SynthOptions(seed=1, pop_size=16, generations=3))
+    assert not res.designs
+    assert any('rail "output" capacitor voltage' in line for line in res.explanation)

@@ -12,6 +12,7 @@ import numpy as np
 
 from ..units import format_si
 from .problem import evaluate_population
+from .score import CAP_VOLTAGE_MARGIN
 from .space import KIND_CHOKE, SearchSpace
 
 
@@ -67,6 +68,14 @@ def explain(space: SearchSpace, X: np.ndarray, F: np.ndarray, G: np.ndarray) -> 
             lo, hi = rail.voltage_v * (1 - rail.tolerance), rail.voltage_v * (1 + rail.tolerance)
             lines.append(f"{name}: the closest candidate gives {format_si(dc, 'V', 4)} "
                          f"against {format_si(lo, 'V', 4)}..{format_si(hi, 'V', 4)}")
+        elif name.endswith(" capacitor voltage"):
+            crest = min(np.sqrt(2.0) * t.open_circuit_v for t in space.transformers) \
+                * (1.0 + brief.mains.high)
+            lines.append(f"{name}: with no load at high mains every capacitor charges to the "
+                         f"crest, {format_si(crest, 'V')} at least; with the "
+                         f"{100 * CAP_VOLTAGE_MARGIN:.0f} % margin it needs a "
+                         f"{format_si(crest * (1 + CAP_VOLTAGE_MARGIN), 'V')} rating, "
+                         f"{100 * best[k]:.0f} % more than the best available")
         elif name.endswith(" hum"):
             lines.append(f"{name}: the quietest candidate is {20 * np.log10(1 + best[k]):.1f} dB "
                          "above the allowance")

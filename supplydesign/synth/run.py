@@ -279,7 +279,7 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
     dec, sc, designs, full, idle = _verify(space, X_all[chosen], opt.verify_steps)
     cands = [_candidate(space, dec, sc, j, designs[j], full, idle, opt.objectives)
              for j in range(len(chosen))]
-    ok = [c for c in cands if c.feasible]
+    ok = _worst_case_check([c for c in cands if c.feasible], opt.verify_steps)
     if not ok:
         result.explanation = ["Candidates met the brief in the fast search but none held "
                               "when re-evaluated accurately; try a larger search."]
@@ -294,6 +294,30 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
     result.picks = _picks(on_front)
     result.comparison = _comparison(ok)
     return result
+
+
+def _worst_case_check(cands: list[Candidate], steps: int) -> list[Candidate]:
+    """Reject choke-input candidates whose worst cases exceed a rating: capacitor voltage
+    in any steady case or at switch-on (a lightly loaded choke input overshoots the
+    crest), the rectifier's switch-on surge and its peak current in any case.
+
+    A capacitor input needs no transient for this: its capacitors never rise above
+    the no-load crest and its surge is the crest over the source resistance, both
+    already constraints of the search (:mod:`supplydesign.synth.score`)."""
+    chokes = [c for c in cands if c.design.rails[0].link.kind == "choke"]
+    if not chokes:
+        return cands
+    from ..stress import constraints
+    from ..worstcase import analyse
+
+    cons = constraints(analyse([c.design for c in chokes], steps=steps))
+    for k, c in enumerate(chokes):
+        for name, values in cons.items():
+            v = float(values[k])
+            if np.isfinite(v):
+                c.margins[f"worst case {name.replace('_', ' ')}"] = v
+                c.feasible = c.feasible and v <= 0.0
+    return [c for c in cands if c.feasible]
 
 
 def _best_of_kinds(space: SearchSpace, X: np.ndarray, F: np.ndarray,

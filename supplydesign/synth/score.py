@@ -183,6 +183,15 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
     reservoir = np.where(dec.kind[:, 0] == KIND_WIRE, np.nan_to_num(first_cap), 0.0)
     add("rectifier reservoir capacitance",
         _ratio(reservoir, np.array([r.max_reservoir_f or np.nan for r in rect])[dec.rectifier]))
+    # switch-on of a capacitor input at the crest into empty capacitors: only the source
+    # and diode resistances limit the surge [derived: circuit theory; leakage lowers it]
+    series = np.array([(r.series_resistance_ohm if r.kind == "silicon" else 0.0)
+                       * (2 if r.arrangement == "bridge" else 1) for r in rect])[dec.rectifier]
+    r_source = np.array([t.resistance_ohm for t in tr])[dec.transformer] + series
+    surge = no_load_crest_v(space, dec) / np.maximum(r_source, 1e-3)
+    surge_rating = np.array([r.max_surge_current_a or np.nan for r in rect])[dec.rectifier]
+    add("rectifier switch-on surge",
+        np.where(dec.kind[:, 0] == KIND_WIRE, _ratio(surge, surge_rating), -1.0))
     rs_min = np.array([r.min_source_resistance_ohm or np.nan for r in rect])[dec.rectifier]
     add("rectifier source resistance",
         _ratio(rs_min, np.array([t.resistance_ohm for t in tr])[dec.transformer]))
