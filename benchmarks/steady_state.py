@@ -48,7 +48,8 @@ def main() -> None:
     ours = min(walls) / args.batch
     conv = sum(f.converged for f in figs)
     print(f"supplydesign: {args.batch} four-rail {args.kind} designs in {min(walls):.3f} s wall "
-          f"({min(cpus):.3f} s CPU): {1e3 * ours:.2f} ms per design; converged {conv}/{args.batch}; "
+          f"({min(cpus):.3f} s CPU): {1e3 * ours:.2f} ms per design; "
+          f"converged {conv}/{args.batch}; "
           f"Newton iterations at most {max(f.iterations for f in figs)}; "
           f"peak traced memory {peak_bytes / 2**20:.1f} MiB")
 
