@@ -13,6 +13,7 @@ import json
 import math
 import os
 
+from ..errors import UserError
 from ..io.tomlwrite import dump_design
 from ..report.cautions import CAUTION_LINES
 from ..units import format_si
@@ -45,10 +46,18 @@ def _comments(c: Candidate) -> dict[str, str]:
 def write_run(result: SynthResult, out_dir: str, *, force: bool = False,
               seed: int | None = None) -> list[str]:
     """Write the run's files into ``out_dir``; returns the paths written."""
+    width = max(2, len(str(len(result.designs))))
+    targets = [os.path.join(out_dir, f"designs/{k:0{width}d}.toml")
+               for k in range(1, len(result.designs) + 1)]
+    targets += [os.path.join(out_dir, "pareto.json"), os.path.join(out_dir, "pareto.csv")]
+    if not force:  # refuse before writing anything, so a folder never mixes two runs
+        for path in targets:
+            if os.path.exists(path):
+                raise UserError("exists already; give --force to overwrite it (or another "
+                                "--out folder)", file=path)
     os.makedirs(os.path.join(out_dir, "designs"), exist_ok=True)
     written = []
     entries = []
-    width = max(2, len(str(len(result.designs))))
     for k, c in enumerate(result.designs, start=1):
         rel = f"designs/{k:0{width}d}.toml"
         header = "\n".join([f"Design {k} of a supplydesign synthesis of: {result.brief.title}",
