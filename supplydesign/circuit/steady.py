@@ -48,6 +48,8 @@ from .statespace import Discrete, StateSpace, _stamp, discretize
 CURRENT_TOLERANCE_A = 1e-9
 #: relative residual below which Newton reuses the last monodromy matrix
 CHORD_BELOW = 1e-5
+#: periods of plain stepping before a second Newton attempt on designs that failed
+FALLBACK_PERIODS = 40
 #: default number of steps per mains period
 STEPS_PER_PERIOD = 512
 
@@ -284,7 +286,8 @@ def initial_guess(ss: StateSpace) -> np.ndarray:
 
 
 def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: float = 1e-9,
-                          max_iter: int = 40, x0: np.ndarray | None = None) -> SteadyState:
+                          max_iter: int = 25, x0: np.ndarray | None = None,
+                          fallback_periods: int | None = None) -> SteadyState:
     """Find the periodic steady state of every design of the batch (see module docstring).
 
     Parameters
@@ -301,7 +304,13 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
         Newton iterations at most; designs that have not converged are flagged.
     x0 : array, optional
         Starting state (B, nx); by default :func:`initial_guess`.
+    fallback_periods : int, optional
+        Periods of plain stepping before a second attempt on designs that did not
+        converge (default ``FALLBACK_PERIODS``; 0 for none, as in the search, where
+        an unsettled candidate is simply infeasible).
     """
+    if fallback_periods is None:
+        fallback_periods = FALLBACK_PERIODS
     B, nx = ss.A.shape[0], ss.nx
     h = 1.0 / (ss.circuit.frequency_hz * steps)
     disc = discretize(ss, h)
@@ -321,40 +330,69 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
     out_u = np.empty((steps + 1, B, P))
     out_y = np.empty((steps + 1, B, P))
     trial = x.copy()
-    active = np.arange(B)
     # Near the fixed point Newton converges quadratically: once every active design's
     # residual is below CHORD_BELOW, the period runs without sensitivities and the
     # step reuses the last monodromy matrix (a chord step).
     monodromy = np.zeros((B, nx, ss.slow.size))
     near = np.zeros(B, dtype=bool)
-    for _it in range(max_iter):
-        sens = not np.all(near[active])
-        xs, us, ys, S = stepper.run(trial[active], active, sens=sens)
-        r = xs[-1] - xs[0]
-        rel = _weighted_norm(w[active], r) / np.maximum(_weighted_norm(w[active], xs[0]), 1e-300)
-        iterations[active] += 1
-        improved = rel < best_r[active]
-        # accept improved trials; the others go back towards the best point
-        acc = active[improved]
-        best_r[acc] = rel[improved]
-        best_x[acc] = trial[acc]
-        residual[acc] = rel[improved]
-        out_x[:, acc], out_u[:, acc] = xs[:, improved], us[:, improved]
-        out_y[:, acc] = ys[:, improved]
-        done = improved & (rel < tol)
-        converged[active[done]] = True
-        go = improved & ~done
-        if sens:
-            monodromy[active] = S
-        near[active] = sens & improved & (rel < CHORD_BELOW)
-        if np.any(go):
-            step[active[go]] = _newton_step(monodromy[active[go]], r[go], ss.slow)
-            lam[active[go]] = 1.0
-        back = ~improved
-        lam[active[back]] *= 0.5
-        keep = go | (back & (lam[active] > 1e-3))
-        active = active[keep]
-        if active.size == 0:
-            break
-        trial[active] = best_x[active] + lam[active, None] * step[active]
+
+    def newton(active: np.ndarray, n_iter: int) -> None:
+        near[active] = False
+        lam[active] = 1.0
+        step[active] = 0.0
+        for _it in range(n_iter):
+            sens = not np.all(near[active])
+            xs, us, ys, S = stepper.run(trial[active], active, sens=sens)
+            r = xs[-1] - xs[0]
+            rel = _weighted_norm(w[active], r) / np.maximum(_weighted_norm(w[active], xs[0]),
+                                                             1e-300)
+            iterations[active] += 1
+            improved = rel < best_r[active]
+            # accept improved trials; the others go back towards the best point
+            acc = active[improved]
+            best_r[acc] = rel[improved]
+            best_x[acc] = trial[acc]
+            residual[acc] = rel[improved]
+            out_x[:, acc], out_u[:, acc] = xs[:, improved], us[:, improved]
+            out_y[:, acc] = ys[:, improved]
+            done = improved & (rel < tol)
+            converged[active[done]] = True
+            go = improved & ~done
+            if sens:
+                monodromy[active] = S
+            near[active] = sens & improved & (rel < CHORD_BELOW)
+            if np.any(go):
+                step[active[go]] = _newton_step(monodromy[active[go]], r[go], ss.slow)
+                lam[active[go]] = 1.0
+            back = ~improved
+            lam[active[back]] *= 0.5
+            keep = go | (back & (lam[active] > 1e-3))
+            active = active[keep]
+            if active.size == 0:
+                break
+            trial[active] = best_x[active] + lam[active, None] * step[active]
+
+    newton(np.arange(B), max_iter)
+    failed = np.flatnonzero(~converged)
+    if failed.size and fallback_periods > 0:
+        # Second attempt for the designs Newton could not settle (lightly damped LC
+        # sections, half-wave choke inputs): let the circuit itself run for a while from
+        # the best point found, so that the modes Newton stumbled over die out, then
+        # shoot again. The first attempt's result stays where the second is no better.
+        keep = (best_x[failed].copy(), best_r[failed].copy(), residual[failed].copy(),
+                out_x[:, failed].copy(), out_u[:, failed].copy(), out_y[:, failed].copy())
+        xr = best_x[failed]
+        for _ in range(fallback_periods):
+            xr = stepper.run(xr, failed, sens=False)[0][-1]
+        trial[failed] = xr
+        best_r[failed] = np.inf
+        newton(failed, max_iter)
+        worse = failed[~converged[failed] & (best_r[failed] > keep[1])]
+        if worse.size:
+            sel = np.searchsorted(failed, worse)
+            best_x[worse], best_r[worse], residual[worse] = (keep[0][sel], keep[1][sel],
+                                                             keep[2][sel])
+            out_x[:, worse], out_u[:, worse], out_y[:, worse] = (keep[3][:, sel],
+                                                                 keep[4][:, sel],
+                                                                 keep[5][:, sel])
     return SteadyState(ss, disc, out_x, out_u, out_y, stepper.s, converged, iterations, residual)

@@ -96,7 +96,8 @@ def evaluate_population(space: SearchSpace, X: np.ndarray,
         rows = np.flatnonzero(group.ravel() == g)
         w = tuple(bool(x) for x in row_key[1:])
         circuit = _group_circuit(space, dec, esr, rows, w)
-        steady = periodic_steady_state(build_state_space(circuit), steps=steps)
+        steady = periodic_steady_state(build_state_space(circuit), steps=steps,
+                                       fallback_periods=0)
         fa = figure_arrays(Solved(circuit, steady))
         m = len(rows)
         half = {k: getattr(fa, k) for k in fa.__dataclass_fields__}
