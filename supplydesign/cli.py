@@ -9,7 +9,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from . import cli_parts
+from . import cli_export, cli_parts
 
 EXIT_USER = 2
 
@@ -34,7 +34,9 @@ def _parser() -> argparse.ArgumentParser:
     ev.add_argument("--quiet", action="store_true", help="no console report")
     ev.add_argument("--nominal-only", action="store_true",
                     help="skip the worst cases, switch-on and discharge (faster)")
+    cli_export.add_evaluate_options(ev)
     cli_parts.add_parsers(sub)
+    cli_export.add_parsers(sub)
     sy = sub.add_parser("synth", help="search a brief for its Pareto set of buildable designs")
     sy.add_argument("brief", metavar="BRIEF.toml")
     _synth_options(sy, out_required=True)
@@ -55,6 +57,7 @@ def _synth_options(sp, out_required: bool) -> None:
                     help="comma-separated subset of hum_db, regulation_pct, peak, cost")
     sp.add_argument("--force", action="store_true", help="overwrite existing output files")
     sp.add_argument("--show", type=int, default=25, help="designs listed in the console table")
+    cli_export.add_synth_options(sp)
 
 
 def _cmd_synth(args, brief_path: str | None = None) -> int:
@@ -107,6 +110,8 @@ def _cmd_synth(args, brief_path: str | None = None) -> int:
     if args.out:
         written = write_run(result, args.out, force=args.force, seed=args.seed)
         console.print(f"wrote {len(written)} files to {os.path.abspath(args.out)}")
+    if args.out or args.plots:
+        cli_export.synth_outputs(args, result, console)
     return 0 if result.designs else 3
 
 
@@ -168,11 +173,14 @@ def _cmd_evaluate(args) -> int:
         from .circuit.spice import write_spice
 
         write_spice(designs[0], args.spice, force=args.force)
+    if args.plots:
+        cli_export.evaluate_plots(args, designs, wc)
     return 1 if not all(f.converged for f in full) else 0
 
 
 COMMANDS = {"evaluate": _cmd_evaluate, "synth": _cmd_synth, "demo": _cmd_demo}
 COMMANDS.update(cli_parts.COMMANDS)
+COMMANDS.update(cli_export.COMMANDS)
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from ..units import format_si
+from .bom import rail_part_values
 from .cautions import CAUTION_LINES
 
 PICK_LABELS = {"cheapest": "cheapest", "quietest": "quietest", "stiffest": "stiffest",
@@ -10,15 +11,7 @@ PICK_LABELS = {"cheapest": "cheapest", "quietest": "quietest", "stiffest": "stif
 
 
 def _parts(c) -> str:
-    bits = []
-    for r in c.design.rails:
-        if r.link.kind == "resistor":
-            bits.append(format_si(r.link.resistance_ohm, "Ω", 2))
-        elif r.link.kind == "choke":
-            bits.append(format_si(r.link.inductance_h, "H", 2))
-        if r.capacitor is not None:
-            bits.append(format_si(r.capacitor.capacitance_f, "F", 2))
-    return " ".join(bits)
+    return " ".join(v for r in c.design.rails for v in rail_part_values(r))
 
 
 def _margins(c) -> str:
