@@ -347,11 +347,7 @@ def test_choke_input_dc_continuous_conduction():
 
 @pytest.mark.parametrize(("steps", "loads"), [
     (STEPS, CHOKE_LOADS_A),
-    pytest.param(1024, (0.1,), marks=[pytest.mark.slow, pytest.mark.xfail(strict=True, reason=(
-        "solver: at 1024 steps per period this choke input with a generic silicon "
-        "rectifier does not converge at 0.1 A: 40 Newton iterations, residual 3.2e-6, "
-        "V_dc 0.38 V below item 3. The 0.05 and 0.2 A loads converge at 1024 steps "
-        "(0.003 and 0.017 V off), and all three at 256-896 and 2048 steps."))]),
+    pytest.param(1024, (0.1,), marks=[pytest.mark.slow]),
 ], ids=["512-steps", "1024-steps"])
 def test_choke_input_dc_generic_silicon(steps, loads):
     # REFERENCES item 3 (Wikipedia, "Ripple (electrical)" [source]; N. Crowhurst,
