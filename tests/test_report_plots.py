@@ -197,3 +197,24 @@ def test_drawing_solves_nothing(run, monkeypatch):
     result, waves = run
     figs = pictures.synth_figures(result, waves)
     assert "pareto" in figs and len(figs) == 1 + 2 * len(waves)
+
+
+def test_switch_on_after_a_warm_up_shows_the_surge_from_conduction():
+    t = np.concatenate([[0.0], np.linspace(5.0, 7.0, 40001)])
+    on = t >= 5.0
+    i_a = np.where(on, 3.0 * np.exp(-(t - 5.0) / 0.05) * np.abs(np.sin(2 * np.pi * 50 * t)),
+                   np.nan)
+    v = {"a": np.where(on, 400 * (1 - np.exp(-(t - 5.0) / 0.2)), 0.0),
+         "b": np.where(on, 420 * (1 - np.exp(-(t - 5.0) / 0.1)) * (1 + 0.2 * np.exp(
+             -(t - 5.0) / 0.3) * np.sin(np.clip(t - 5.0, 0, None) * 6)), 0.0)}
+    fig = plots.switch_on_figure(t, v, junction_a=i_a, surge_rating_a=3.5, element="anode")
+    volts, amps = fig.axes
+    assert volts.get_xlim()[0] == 0.0  # the warm-up is shown as it is
+    lo, hi = amps.get_xlim()
+    assert 4.99 <= lo <= 5.0 and hi == pytest.approx(5.1)
+    assert amps.get_title(loc="left").startswith("current in one anode, from conduction")
+    assert "after conduction starts" in amps.texts[0].get_text()
+    assert any(ln.get_linestyle() == "--" for ln in amps.get_lines())  # rating near the surge
+    # only the rail that overshoots and comes back gets the overshoot mark
+    marks = [ln for ln in volts.get_lines() if ln.get_marker() == "v"]
+    assert len(marks) == 1 and marks[0].get_color() == plots.rail_colour(1)

@@ -93,7 +93,7 @@ def switch_on_traces(wc) -> list[SwitchOnTrace]:
             i_a = np.where(t[ok] >= SURGE_FROM_S, np.max(rec["junction_a"][ok, row], axis=1),
                            np.nan)
             out[b] = SwitchOnTrace(
-                t_s=np.concatenate([[0.0], t[ok]]) + delay[b],
+                t_s=np.concatenate([[0.0], t[ok] + delay[b]]),
                 rail_v={r.name: np.concatenate([[0.0], v[:, i]])
                         for i, r in enumerate(designs[b].rails)},
                 junction_a=np.concatenate([[np.nan], i_a]),
@@ -148,7 +148,8 @@ def design_figures(design: Design, figures: Figures, *, title: str = "",
     if switch_on is not None:
         out["switch-on"] = plots.switch_on_figure(
             switch_on.t_s, switch_on.rail_v, junction_a=switch_on.junction_a,
-            final_v=switch_on.final_v, title=_title("Switch-on at high mains", title))
+            final_v=switch_on.final_v, surge_rating_a=rect.max_surge_current_a,
+            element=element, title=_title("Switch-on at high mains", title))
     if impedance is not None:
         ripple_hz = design.mains.frequency_hz * (1 if rect.arrangement == "half-wave" else 2)
         out["impedance"] = plots.impedance_figure(

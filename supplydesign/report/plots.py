@@ -221,7 +221,8 @@ def rectifier_figure(waveforms, *, peak_rating_a: float | None = None, element: 
 def switch_on_figure(t_s: np.ndarray, rail_v: Mapping[str, np.ndarray], *,
                      junction_a: np.ndarray | None = None,
                      final_v: Mapping[str, float] | None = None, title: str = "",
-                     surge_window_s: float = 0.1):
+                     surge_window_s: float = 0.1, surge_rating_a: float | None = None,
+                     element: str = "anode or diode"):
     """Switch-on transient: rail voltages and, when given, the rectifier current.
 
     Parameters
@@ -232,10 +233,14 @@ def switch_on_figure(t_s: np.ndarray, rail_v: Mapping[str, np.ndarray], *,
         Capacitor (or rail) voltage [V] per rail, over the whole run.
     junction_a : (N,) array, optional
         Highest current in one anode or diode at each instant [A] (NaN where not
-        counted); shown over the first ``surge_window_s`` (or four times the time
-        of the surge, if later), where the surge is.
+        counted); shown from the start of conduction (after a valve's warm-up) over
+        ``surge_window_s`` (or four times the time to the surge, if longer).
     final_v : mapping of rail name to float, optional
         The DC each rail settles to [V], drawn dashed in the rail's colour.
+    surge_rating_a : float, optional
+        The rectifier's surge current rating [A], dashed when near the surge.
+    element : str
+        What conducts ("anode", "diode"), for the title.
     """
     t_s = np.asarray(t_s, dtype=float)
     panels = 2 if junction_a is not None else 1
@@ -248,28 +253,41 @@ def switch_on_figure(t_s: np.ndarray, rail_v: Mapping[str, np.ndarray], *,
             v = np.asarray(v, dtype=float)
             ax.plot(*_scaled(envelope(t_s, v), k), color=rail_colour(i), label=name)
             p = int(np.nanargmax(v))
-            ax.plot(t_s[p] * k, v[p], marker="v", color=rail_colour(i), ms=6, clip_on=False)
+            if v[p] > 1.002 * v[-1]:  # an overshoot: the rail comes back down from it
+                ax.plot(t_s[p] * k, v[p], marker="v", color=rail_colour(i), ms=7)
             if final_v and final_v.get(name) is not None:
                 ax.axhline(final_v[name], color=rail_colour(i), ls="--", lw=0.8, alpha=0.7)
         ax.set_ylabel("voltage [V]")
         ax.set_ylim(bottom=0.0)
         ax.set_xlabel(f"time from switch-on [{unit}]")
-        ax.legend(loc="lower right", ncols=min(4, max(1, len(rail_v))))
-        ax.set_title("capacitor voltage at each rail (▼ highest; dashed: final DC)")
+        ax.legend(loc="best", ncols=min(4, max(1, len(rail_v))))
+        ax.set_title("capacitor voltage at each rail (▼ overshoot; dashed: final DC)")
         if junction_a is not None:
             i_a = np.asarray(junction_a, dtype=float)
             p = int(np.nanargmax(i_a))
-            end = min(float(t_s[-1]), max(surge_window_s, 4.0 * float(t_s[p])))
-            show = t_s <= end
+            on = np.flatnonzero(np.nan_to_num(i_a) > 0)
+            start = float(t_s[on[0]]) if on.size else 0.0
+            span = max(surge_window_s, 4.0 * (float(t_s[p]) - start))
+            end = min(float(t_s[-1]), start + span)
+            show = (t_s >= start - 0.05 * span) & (t_s <= end)
             k2, unit2 = _time_scale(t_s[show])
             ax2 = axes[1]
             ax2.plot(*_scaled(envelope(t_s[show], i_a[show]), k2), color=INK, lw=0.9)
             ax2.plot(t_s[p] * k2, i_a[p], marker="v", color="#a8412f", ms=7)
-            _note(ax2, f"surge {_si(float(i_a[p]), 'A')} at {_si(float(t_s[p]), 's')}")
+            note = f"surge {_si(float(i_a[p]), 'A')} at {_si(float(t_s[p]), 's')}"
+            late = start >= 0.05 * span
+            if late:
+                note += f", {_si(float(t_s[p]) - start, 's')} after conduction starts"
+            if surge_rating_a:
+                note += f"; rating {_si(surge_rating_a, 'A')}"
+                if surge_rating_a <= 1.6 * i_a[p]:
+                    ax2.axhline(surge_rating_a, color=LIMIT, ls="--", lw=1.0)
+            _note(ax2, note)
             ax2.set_ylabel("current [A]")
             ax2.set_ylim(bottom=0.0)
             ax2.set_xlabel(f"time from switch-on [{unit2}]")
-            ax2.set_title(f"current in one anode or diode, first {_si(end, 's')}")
+            when = "from conduction," if late else "the first"
+            ax2.set_title(f"current in one {element}, {when} {_si(end - start, 's')}")
         for a in axes:
             a.margins(x=0)
         if title:
