@@ -84,6 +84,9 @@ def _cmd_synth(args, brief_path: str | None = None) -> int:
                              ("--population", args.population, 4)):
         if value < low:
             raise UserError(f"expected at least {low}", key=name)
+    if args.out and not args.force and os.path.exists(os.path.join(args.out, "pareto.json")):
+        raise UserError("holds the files of an earlier run; give --force to overwrite them "
+                        "or choose another folder", file=args.out, key="--out")
     extra = args.catalog or read_catalog_setting(path)
     catalog = load_catalog(extra=extra) if extra else load_catalog()
     brief = load_design(path, brief=True, catalog=catalog)

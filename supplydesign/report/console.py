@@ -101,8 +101,7 @@ def render_evaluation(console, design: Design, full: Figures, idle: Figures | No
     console.rule(f"[bold]{design.title}[/]  ({design.source})")
     if not full.converged:
         console.print(f"[bold red]The steady-state solver did not converge for this design "
-                      f"(residual {full.residual:.1e} after {full.iterations} iterations); "
-                      "treat its figures with suspicion.[/]")
+                      f"({full.note}); treat its figures with suspicion.[/]")
     console.print(rails_table(design, full, idle))
     console.print(stresses_table(design, full))
     if worst is not None:
