@@ -23,6 +23,9 @@ def write_text_atomic(path: str | os.PathLike, text: str, *, force: bool = False
     try:
         with os.fdopen(fd, "w", encoding="utf-8") as f:
             f.write(text)
+        umask = os.umask(0)  # a temporary file is private; the result gets the usual mode
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):

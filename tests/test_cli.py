@@ -86,3 +86,14 @@ def test_examples_meet_their_own_targets(path, tmp_path):
             assert abs(r.dc_v - rail.voltage_v) <= rail.tolerance * rail.voltage_v, rail.name
         if rail.hum_v is not None:
             assert r.ripple_rms_v <= rail.hum_v, rail.name
+
+
+def test_output_files_get_the_usual_permissions(tmp_path):
+    import os
+
+    out = tmp_path / "figs.json"
+    assert main(["evaluate", str(EXAMPLES[0]), "--json", str(out), "--quiet",
+                 "--nominal-only"]) == 0
+    umask = os.umask(0)
+    os.umask(umask)
+    assert (out.stat().st_mode & 0o777) == (0o666 & ~umask)
