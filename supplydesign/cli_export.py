@@ -40,8 +40,8 @@ def add_synth_options(sp) -> None:
     sp.add_argument("--no-report", action="store_true",
                     help="leave out report.html (the page with tables and pictures)")
     sp.add_argument("--worst-cases", action="store_true",
-                    help="add switch-on and output impedance pictures of the picked designs "
-                         "to the report and plots (runs their worst-case analysis: slow)")
+                    help="switch-on and output impedance pictures of every picked design, not "
+                         "only the balanced pick (runs their worst-case analysis: slower)")
 
 
 def cmd_bom(args) -> int:
@@ -90,8 +90,9 @@ def synth_outputs(args, result, console=None) -> list[str]:
 
     switch_on = impedance = None
     report = bool(args.out) and not args.no_report
-    if args.worst_cases and (report or args.plots) and result.designs:
-        idx = picked(result)
+    if (report or args.plots) and result.designs:
+        # the balanced pick always; every pick on request (a worst-case analysis each)
+        idx = picked(result) if args.worst_cases else [result.picks["balanced"][0]]
         traces, curves = worst_case_pictures([result.designs[i].design for i in idx])
         switch_on, impedance = dict(zip(idx, traces, strict=True)), dict(zip(idx, curves,
                                                                             strict=True))

@@ -85,6 +85,8 @@ class WorstCases:
     discharge_v0: np.ndarray  # (B, R) capacitor voltage at switch-off (high mains, cold)
     discharge_s: np.ndarray  # (B, R) time to fall below SAFE_VOLTAGE_V
     bleeder: dict[str, np.ndarray]  # suggestion: ohm, power_w, nominal_power_w, worst_s (B,)
+    # per topology group (design indices, SwitchOn with its record) when analysed with record
+    cold_runs: list | None = None
 
 
 def _rails(designs: Sequence[Design]) -> int:
@@ -103,7 +105,8 @@ def _scatter(into: np.ndarray, idx, values: np.ndarray) -> None:
         into[np.asarray(idx), : values.shape[1]] = values
 
 
-def _switch_on_runs(designs, final_v, tail_peak_v, make_phases, delay_s, t_extra_s):
+def _switch_on_runs(designs, final_v, tail_peak_v, make_phases, delay_s, t_extra_s,
+                    record: bool = False):
     """Switch-on runs for ``designs`` grouped by topology, rising to ``final_v`` and
     reaching ``tail_peak_v`` in the steady state after the run ((B, R) each).
     Returns the arrays and, per group, (indices, SwitchOn)."""
@@ -118,7 +121,8 @@ def _switch_on_runs(designs, final_v, tail_peak_v, make_phases, delay_s, t_extra
         t_max = np.minimum(t_max, MAX_SWITCH_ON_S) + t_extra_s[idx]
         n_rails = len(sub[0].rails)
         fv = final_v[idx, :n_rails]
-        run = switch_on(phases, warm_at, final_v=fv, t_max_s=t_max, delay_s=delay_s[idx])
+        run = switch_on(phases, warm_at, final_v=fv, t_max_s=t_max, delay_s=delay_s[idx],
+                        record=record)
         runs.append((idx, run))
         # the steady state covers the tail beyond the run
         peak = np.fmax(run.peak_v, tail_peak_v[idx, :n_rails])
@@ -294,8 +298,12 @@ def _bleeder_suggestion(designs, v0, times, starts, nominal: CaseResult):
     return out
 
 
-def analyse(designs: Sequence[Design], steps: int = STEPS_PER_PERIOD) -> WorstCases:
-    """Every worst-case figure of ``designs`` (see module docstring)."""
+def analyse(designs: Sequence[Design], steps: int = STEPS_PER_PERIOD,
+            record: bool = False) -> WorstCases:
+    """Every worst-case figure of ``designs`` (see module docstring).
+
+    ``record`` keeps the time series of the contract's switch-on run (for pictures) in
+    ``WorstCases.cold_runs``."""
     designs = tuple(designs)
     B = len(designs)
     cases = solve_cases(designs, (NOMINAL, IDLE, HIGH_MAINS_IDLE, LOW_MAINS_FULL_LOAD, LESS_LOAD),
@@ -316,8 +324,8 @@ def analyse(designs: Sequence[Design], steps: int = STEPS_PER_PERIOD) -> WorstCa
     for name in ("dc_v", "peak_v"):
         arr = getattr(cold.arrays, name)
         arr[loose] = np.fmax(arr[loose], crest[loose])
-    sw, _ = _switch_on_runs(designs, cold.arrays.dc_v, cold.arrays.peak_v, cold_phases, delay,
-                            np.zeros(B))
+    sw, cold_runs = _switch_on_runs(designs, cold.arrays.dc_v, cold.arrays.peak_v, cold_phases,
+                                    delay, np.zeros(B), record=record)
     for name in ("dc_v", "peak_v"):
         arr = getattr(cold.arrays, name)
         arr[bad] = np.fmax(arr[bad], sw.last_v[bad])
@@ -357,4 +365,5 @@ def analyse(designs: Sequence[Design], steps: int = STEPS_PER_PERIOD) -> WorstCa
         impedance_hz=IMPEDANCE_HZ, impedance_ohm=impedance, lc_f0_hz=f0, lc_q=q,
         choke_input=_choke_input(designs, cases[IDLE.name], cold),
         discharge_v0=v0, discharge_s=times,
-        bleeder=_bleeder_suggestion(designs, v0, times, starts, cases[NOMINAL.name]))
+        bleeder=_bleeder_suggestion(designs, v0, times, starts, cases[NOMINAL.name]),
+        cold_runs=cold_runs if record else None)

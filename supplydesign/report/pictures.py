@@ -78,11 +78,17 @@ def switch_on_traces(wc) -> list[SwitchOnTrace]:
     sw = wc.switch_on
     delay = np.array([d.rectifier.warm_up_s or 0.0 for d in designs])
     out: list[SwitchOnTrace | None] = [None] * len(designs)
-    for idx in group_by_topology(designs):
-        sub = [designs[i] for i in idx]
-        n = len(sub[0].rails)
-        run = switch_on([case_circuit(sub, HIGH_MAINS_NO_LOAD)], final_v=sw.final_v[idx, :n],
-                        t_max_s=sw.end_s[idx] - delay[idx], delay_s=delay[idx], record=True)
+    runs = wc.cold_runs
+    if runs is None:  # the analysis kept no time series: run the switch-on again
+        runs = []
+        for idx in group_by_topology(designs):
+            sub = [designs[i] for i in idx]
+            n = len(sub[0].rails)
+            runs.append((idx, switch_on([case_circuit(sub, HIGH_MAINS_NO_LOAD)],
+                                        final_v=sw.final_v[idx, :n],
+                                        t_max_s=sw.end_s[idx] - delay[idx], delay_s=delay[idx],
+                                        record=True)))
+    for idx, run in runs:
         rec = run.record
         for row, b in enumerate(idx):
             t = rec["t_s"][:, row]
@@ -115,7 +121,7 @@ def worst_case_pictures(designs: Sequence[Design], steps: int = 512, wc=None
     if wc is None:
         from ..worstcase import analyse
 
-        wc = analyse(designs, steps=steps)
+        wc = analyse(designs, steps=steps, record=True)
     return switch_on_traces(wc), impedance_curves(wc)
 
 
