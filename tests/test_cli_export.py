@@ -72,8 +72,11 @@ def test_synth_writes_report_bom_and_pictures(tmp_path):
     doc = json.loads((out / "pareto.json").read_text())
     picked = sorted({p["design"] for p in doc["picks"].values()})
     width = len(doc["designs"][0]["file"]) - len("designs/.toml")
+    balanced = doc["picks"]["balanced"]["design"]
     expected = {"pareto.svg"} | {f"design-{k:0{width}d}-{w}.svg" for k in picked
                                  for w in ("ripple", "rectifier")}
+    # the balanced pick also gets its worst-case pictures by default
+    expected |= {f"design-{balanced:0{width}d}-{w}.svg" for w in ("switch-on", "impedance")}
     assert {p.name for p in plots.iterdir()} == expected
     page = (out / "report.html").read_text(encoding="utf-8")
     assert page.count("<svg") == len(expected)
