@@ -236,8 +236,12 @@ def evaluate_arrays(designs: Sequence[Design], case: OperatingCase = NOMINAL, *,
     return stack_rows(parts, len(designs))
 
 
-def convergence_note(fa: FigureArrays, b: int) -> str:
-    """Why design ``b`` of a batch has no converged steady state ("" when it has one)."""
+def convergence_note(fa: FigureArrays, b: int, design: Design | None = None) -> str:
+    """Why design ``b`` of a batch has no converged steady state ("" when it has one).
+
+    With the design at hand, a stopped Newton shooting is followed by what in the
+    circuit makes a steady state hard to reach (see :func:`settling_hint`).
+    """
     if fa.converged[b]:
         return ""
     dc = fa.dc_v[b]
@@ -246,8 +250,52 @@ def convergence_note(fa: FigureArrays, b: int) -> str:
     if np.any(dc <= 0.0):
         return ("the supply cannot carry the stage currents: a rail falls to 0 V or below, "
                 "so there is no steady state with these loads")
-    return (f"Newton shooting stopped after {int(fa.iterations[b])} iterations at a residual "
+    note = (f"Newton shooting stopped after {int(fa.iterations[b])} iterations at a residual "
             f"of {fa.residual[b]:.1e}")
+    hint = settling_hint(design, fa.dc_v[b], fa.link_dc_a[b]) if design is not None else ""
+    return f"{note}; {hint}" if hint else note
+
+
+#: Q of an LC section above which its ringing is named as a cause of slow settling
+RINGING_Q = 3.0
+
+
+def settling_hint(design: Design, dc_v: np.ndarray, link_dc_a: np.ndarray) -> str:
+    """What in ``design`` keeps its supply from settling to one repeating mains cycle.
+
+    Two circumstances account for nearly every design the shooting cannot settle
+    (benchmarks/robustness.py): a choke input below its critical inductance at the
+    load it carries, whose rectifier then conducts in bursts (the choke current
+    falls to zero every cycle; Wikipedia, "Ripple (electrical)", L_c = R_L/3ω),
+    and an LC section with little damping (Q from :func:`formulas.lc_section`),
+    whose slow ringing the rectifier keeps exciting. ``dc_v`` and ``link_dc_a``
+    are the rail DC voltages [V] and link currents [A] of the best cycle found.
+    Returns "" when neither applies.
+    """
+    from .circuit import formulas
+
+    hints = []
+    first = design.rails[0]
+    if first.link.kind == "choke" and link_dc_a[0] > 0.0 and dc_v[0] > 0.0:
+        lc = float(formulas.critical_inductance_h(dc_v[0] / link_dc_a[0],
+                                                  design.mains.frequency_hz,
+                                                  design.rectifier.arrangement))
+        if first.link.inductance_h < lc:
+            hints.append(f"the choke input is below its critical inductance "
+                         f"({first.link.inductance_h:.3g} H against {lc:.3g} H at "
+                         f"{1e3 * link_dc_a[0]:.3g} mA): the rectifier conducts in bursts and "
+                         f"the supply need not repeat every mains cycle; a bleeder or a "
+                         f"larger choke restores continuous conduction")
+    for i, r in enumerate(design.rails):
+        if r.link.kind != "choke" or r.capacitor is None:
+            continue
+        r_load = dc_v[i] / link_dc_a[i] if link_dc_a[i] > 0.0 else np.inf
+        f0, q = formulas.lc_section(r.link.inductance_h, r.capacitor.capacitance_f,
+                                    r.link.resistance_ohm + r.capacitor.esr_ohm, r_load)
+        if q > RINGING_Q:
+            hints.append(f"rail {r.name!r} is an LC section that rings (f0 {float(f0):.3g} Hz, "
+                         f"Q {float(q):.2g}) and settles slowly")
+    return "; ".join(hints)
 
 
 def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
@@ -284,7 +332,8 @@ def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
             transformer=TransformerFigures(float(fa.winding_rms_a[b]),
                                            float(fa.winding_power_w[b])),
             converged=bool(fa.converged[b]), iterations=int(fa.iterations[b]),
-            residual=float(fa.residual[b]), note=convergence_note(fa, b), waveforms=wf))
+            residual=float(fa.residual[b]), note=convergence_note(fa, b, solved.circuit.designs[b]),
+            waveforms=wf))
     return out
 
 

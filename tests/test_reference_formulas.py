@@ -569,8 +569,9 @@ def test_choke_alone_matches_the_harmonic_sum(choke_alone, r_load):
     # zero crossing both anodes conduct (commutation through R_s), filling in the
     # dip of the rectified wave: that lowers its 2f term by about (R_s I)²/(2π V_p)
     # and raises its DC by half that, 0.25 % on γ at 300 Ω (I = 0.7 A), 0.002 % at
-    # 3150 Ω [derived]; the diode's 35 mV drop and harmonics beyond n = 400 add
-    # nothing measurable.
+    # 3150 Ω [derived]; the resistance across a choke input's choke (netlist
+    # CHOKE_DAMPING, the iron's losses) lowers γ by about 0.2 % at 3150 Ω; the
+    # diode's 35 mV drop and harmonics beyond n = 400 add nothing measurable.
     rail = choke_alone[r_load].rails[0]
     expected = choke_alone_harmonic_sum(r_load, CHOKE_DCR_OHM + CHOKE_RS_OHM, ALONE_L_H)
     assert rail.ripple_rms_v / rail.dc_v == pytest.approx(expected, rel=5e-3)

@@ -34,7 +34,7 @@ from .netlist import GROUND, NODE_CAPACITANCE, Circuit, Element, Topology
 from .statespace import _stamp, build_state_space
 
 #: element roles of the filter (everything after the rectifier output)
-FILTER_ROLES = ("link", "cap", "esr", "load", "bleeder", "node_c")
+FILTER_ROLES = ("link", "choke_damping", "cap", "esr", "load", "bleeder", "node_c")
 #: frequencies of the output impedance [Hz]: 1 Hz to 20 kHz, 20 per decade
 IMPEDANCE_HZ = np.logspace(0.0, np.log10(20e3), 87)
 #: longest discharge time looked at [s]; beyond it a capacitor "holds its charge"

@@ -48,6 +48,8 @@ from .statespace import Discrete, StateSpace, _stamp, discretize
 CURRENT_TOLERANCE_A = 1e-9
 #: relative residual below which Newton reuses the last monodromy matrix
 CHORD_BELOW = 1e-5
+#: a Newton step cut below this fraction without improving gives way to a plain period
+RELAX_BELOW = 1e-3
 #: periods of plain stepping before a second Newton attempt on designs that failed
 FALLBACK_PERIODS = 40
 #: default number of steps per mains period
@@ -145,6 +147,58 @@ def _newton_step(M: np.ndarray, r: np.ndarray, slow: np.ndarray) -> np.ndarray:
     dx = r + np.einsum("bij,bj->bi", M, dx_slow)
     dx[:, slow] = dx_slow
     return dx
+
+
+def _step_limit(ss: StateSpace) -> np.ndarray:
+    """Largest sensible change of each state in one Newton step, shape (B, nx).
+
+    A periodic steady state of a passive filter fed through rectifiers holds its
+    capacitor voltages within a small multiple of the winding emf and its choke
+    currents within what the emf can drive through the winding resistance. A
+    Newton step of a nearly singular (I - M), which lightly damped sections and
+    barely conducting rectifiers produce, can point far outside that box; such a
+    step is shortened to it (a trust region), so that no trial period is run
+    from absurd voltages, where the junction law cannot be solved.
+    """
+    vscale = _max_emf(ss)  # [V]
+    c = ss.circuit
+    rw = np.min(np.stack([c.value(e.name, "r") for e in c.topology.elements
+                          if e.kind == "W"]), axis=0)  # [ohm]
+    lim = np.empty((vscale.size, ss.nx))
+    lim[:, : ss.n_dynamic_nodes] = vscale[:, None]
+    lim[:, ss.n_dynamic_nodes:] = (vscale / np.maximum(rw, 1e-3))[:, None]
+    return lim
+
+
+def _forward_limit(ss: StateSpace) -> np.ndarray:
+    """Junction voltage at which a junction passes the winding's short-circuit current
+    (largest emf over smallest winding resistance), shape (B, P) [V].
+
+    No periodic state of the supply puts a junction beyond it; a trial state that
+    does would start its period with an absurd current pulse.
+    """
+    c = ss.circuit
+    params = ss.port_params
+    rw = np.min(np.stack([c.value(e.name, "r") for e in c.topology.elements
+                          if e.kind == "W"]), axis=0)
+    i_sc = (_max_emf(ss) / np.maximum(rw, 1e-3))[:, None]  # [A]
+    if c.topology.law == "valve":
+        return (i_sc / params["k"]) ** (2.0 / 3.0)
+    return params["nvt"] * np.log1p(i_sc / params["isat"])
+
+
+def _limit_step(step: np.ndarray, x: np.ndarray, limit: np.ndarray, Cy: np.ndarray,
+                y_max: np.ndarray) -> np.ndarray:
+    """Shorten Newton steps (B, nx) from states x to the trust region: no state moves by
+    more than ``limit`` and no junction voltage Cy x ends beyond ``y_max``."""
+    over = np.max(np.abs(step) / limit, axis=1)
+    step = step / np.maximum(over, 1.0)[:, None]
+    y = np.einsum("bpi,bi->bp", Cy, x)
+    dy = np.einsum("bpi,bi->bp", Cy, step)
+    room = np.maximum(y_max - y, 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        frac = np.where(dy > room, room / dy, 1.0)
+    return step * np.min(frac, axis=1)[:, None]
 
 
 def _weighted_norm(w: np.ndarray, v: np.ndarray) -> np.ndarray:
@@ -324,6 +378,8 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
     stepper = _Stepper(ss, disc, steps)
     x = initial_guess(ss) if x0 is None else x0.copy()
     w = ss.weights
+    limit = _step_limit(ss)
+    y_max = _forward_limit(ss)
     P = ss.Cy.shape[1]
 
     best_x = x.copy()
@@ -342,6 +398,16 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
     # step reuses the last monodromy matrix (a chord step).
     monodromy = np.zeros((B, nx, ss.slow.size))
     near = np.zeros(B, dtype=bool)
+    # the point of lowest residual met so far, for designs that never converge
+    rec_r = np.full(B, np.inf)
+    rec_x = x.copy()
+    rec_out = (np.empty_like(out_x), np.empty_like(out_u), np.empty_like(out_y))
+
+    def record(sel: np.ndarray) -> None:
+        sel = sel[best_r[sel] < rec_r[sel]]
+        rec_r[sel], rec_x[sel] = best_r[sel], best_x[sel]
+        rec_out[0][:, sel], rec_out[1][:, sel] = out_x[:, sel], out_u[:, sel]
+        rec_out[2][:, sel] = out_y[:, sel]
 
     def newton(active: np.ndarray, n_iter: int) -> None:
         near[active] = False
@@ -369,11 +435,27 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
                 monodromy[active] = S
             near[active] = sens & improved & (rel < CHORD_BELOW)
             if np.any(go):
-                step[active[go]] = _newton_step(monodromy[active[go]], r[go], ss.slow)
+                ag = active[go]
+                step[ag] = _limit_step(_newton_step(monodromy[ag], r[go], ss.slow),
+                                       best_x[ag], limit[ag], ss.Cy[ag], y_max[ag])
                 lam[active[go]] = 1.0
             back = ~improved
             lam[active[back]] *= 0.5
-            keep = go | (back & (lam[active] > 1e-3))
+            # A Newton step that fails even when cut to RELAX_BELOW points the wrong
+            # way: the map is far from linear between here and the fixed point (a
+            # switching pattern of the rectifiers that differs). Rather than give up,
+            # let the circuit run: the end of the best point's period becomes the new
+            # point, accepted whatever its residual, and Newton starts again from it.
+            relax = back & (lam[active] < RELAX_BELOW)
+            if np.any(relax):
+                ar = active[relax]
+                record(ar)
+                best_x[ar] = out_x[-1, ar]
+                best_r[ar] = np.inf
+                step[ar] = 0.0
+                lam[ar] = 1.0
+                near[ar] = False
+            keep = go | back
             active = active[keep]
             if active.size == 0:
                 break
@@ -385,21 +467,19 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
         # Second attempt for the designs Newton could not settle (lightly damped LC
         # sections, half-wave choke inputs): let the circuit itself run for a while from
         # the best point found, so that the modes Newton stumbled over die out, then
-        # shoot again. The first attempt's result stays where the second is no better.
-        keep = (best_x[failed].copy(), best_r[failed].copy(), residual[failed].copy(),
-                out_x[:, failed].copy(), out_u[:, failed].copy(), out_y[:, failed].copy())
+        # shoot again.
+        record(failed)
         xr = best_x[failed]
         for _ in range(fallback_periods):
             xr = stepper.run(xr, failed, sens=False)[0][-1]
         trial[failed] = xr
         best_r[failed] = np.inf
         newton(failed, max_iter)
-        worse = failed[~converged[failed] & (best_r[failed] > keep[1])]
-        if worse.size:
-            sel = np.searchsorted(failed, worse)
-            best_x[worse], best_r[worse], residual[worse] = (keep[0][sel], keep[1][sel],
-                                                             keep[2][sel])
-            out_x[:, worse], out_u[:, worse], out_y[:, worse] = (keep[3][:, sel],
-                                                                 keep[4][:, sel],
-                                                                 keep[5][:, sel])
+    # designs left unsettled report the lowest residual met on the way
+    worse = np.flatnonzero(~converged & (rec_r < residual))
+    if worse.size:
+        best_x[worse], residual[worse] = rec_x[worse], rec_r[worse]
+        out_x[:, worse], out_u[:, worse], out_y[:, worse] = (rec_out[0][:, worse],
+                                                             rec_out[1][:, worse],
+                                                             rec_out[2][:, worse])
     return SteadyState(ss, disc, out_x, out_u, out_y, stepper.s, converged, iterations, residual)
