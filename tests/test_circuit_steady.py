@@ -69,3 +69,42 @@ def test_average_anode_currents_carry_the_load():
     f = evaluate([_design()])[0]
     total = sum(r.load_a for r in f.rails)
     assert 2 * f.rectifier.avg_a == pytest.approx(total, rel=2e-5)
+
+
+def test_newton_steps_stay_inside_the_trust_region():
+    """A step is shortened so that no state moves by more than its limit and no
+    junction ends beyond its forward limit; a step inside both is left alone."""
+    from supplydesign.circuit.steady import _limit_step
+
+    x = np.array([[0.0, 100.0]] * 3)
+    limit = np.full((3, 2), 500.0)
+    cy = np.array([[[1.0, 0.0]]] * 3)  # the junction voltage is state 0
+    y_max = np.full((3, 1), 1.1)
+    step = np.array([[-3.0, 20.0],       # reverse-biases the junction: kept
+                     [2.2, -40.0],       # 2.2 V forward: halved, to the 1.1 V limit
+                     [0.1, -4000.0]])    # 4 kV: cut to the 500 V box, 1/8
+    out = _limit_step(step, x, limit, cy, y_max)
+    np.testing.assert_allclose(out[0], step[0])
+    np.testing.assert_allclose(out[1], step[1] / 2.0)
+    np.testing.assert_allclose(out[2], step[2] / 8.0)
+
+
+def test_light_choke_input_below_critical_settles():
+    """A choke input at a few milliamperes, far below its critical inductance (the
+    choke current stops every half cycle): a periodic steady state is found, and it
+    is the one a long run of the same discrete map reaches (invented values)."""
+    design = Design(
+        "light choke input", Mains(50.0),
+        Transformer("center-tapped", open_circuit_v=400.0, resistance_ohm=5.0),
+        Rectifier(),
+        (Rail("a", None, Link("choke", resistance_ohm=22.0, inductance_h=3.0),
+              Capacitor(270e-6, esr_ohm=0.05), current_a=0.004),))
+    ss = build_state_space(build([design]))
+    st = periodic_steady_state(ss, steps=256)
+    assert st.converged.all()
+    stepper = _Stepper(ss, discretize(ss, 1.0 / (50.0 * 256) * np.ones(1)), 256)
+    x = st.x[0]
+    for _ in range(50):
+        x = stepper.run(x, np.arange(1), sens=False)[0][-1]
+    v0 = st.x[0, 0, ss.n_dynamic_nodes - 1]
+    assert x[0, ss.n_dynamic_nodes - 1] == pytest.approx(v0, rel=1e-6)

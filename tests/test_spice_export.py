@@ -336,11 +336,14 @@ def test_ngspice_anode_currents_carry_the_load(references, name):
 @pytest.mark.parametrize("name", [n for n in NAMES if "bridge" not in n])
 def test_ngspice_winding_current_is_the_anode_current(references, name):
     m = references[name]
+    # where a choke input stops conducting, the rectifier output swings by hundreds of
+    # volts within a millisecond and the junction capacitance carries 0.13 % of the rms
+    rms_rel = 2e-3 if name == "si_fw_light_choke" else 1e-3
     for anode, winding in zip(m["anodes"], m["windings"], strict=True):
         # the winding half feeds its own anode; only the 100 pF junction capacitance
         # and 1 nS conductance carry a little current around the junction
         assert winding["avg_a"] == pytest.approx(anode["avg_a"], rel=1e-3)
-        assert winding["rms_a"] == pytest.approx(anode["rms_a"], rel=1e-3)
+        assert winding["rms_a"] == pytest.approx(anode["rms_a"], rel=rms_rel)
 
 
 @pytest.mark.ngspice

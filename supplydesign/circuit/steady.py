@@ -48,8 +48,6 @@ from .statespace import Discrete, StateSpace, _stamp, discretize
 CURRENT_TOLERANCE_A = 1e-9
 #: relative residual below which Newton reuses the last monodromy matrix
 CHORD_BELOW = 1e-5
-#: a Newton step cut below this fraction without improving gives way to a plain period
-RELAX_BELOW = 1e-3
 #: periods of plain stepping before a second Newton attempt on designs that failed
 FALLBACK_PERIODS = 40
 #: default number of steps per mains period
@@ -161,13 +159,18 @@ def _step_limit(ss: StateSpace) -> np.ndarray:
     from absurd voltages, where the junction law cannot be solved.
     """
     vscale = _max_emf(ss)  # [V]
+    lim = np.empty((vscale.size, ss.nx))
+    lim[:, : ss.n_dynamic_nodes] = vscale[:, None]
+    lim[:, ss.n_dynamic_nodes:] = _short_circuit_a(ss)[:, None]
+    return lim
+
+
+def _short_circuit_a(ss: StateSpace) -> np.ndarray:
+    """Largest winding emf over the smallest winding resistance, shape (B,) [A]."""
     c = ss.circuit
     rw = np.min(np.stack([c.value(e.name, "r") for e in c.topology.elements
                           if e.kind == "W"]), axis=0)  # [ohm]
-    lim = np.empty((vscale.size, ss.nx))
-    lim[:, : ss.n_dynamic_nodes] = vscale[:, None]
-    lim[:, ss.n_dynamic_nodes:] = (vscale / np.maximum(rw, 1e-3))[:, None]
-    return lim
+    return _max_emf(ss) / np.maximum(rw, 1e-3)
 
 
 def _forward_limit(ss: StateSpace) -> np.ndarray:
@@ -177,12 +180,9 @@ def _forward_limit(ss: StateSpace) -> np.ndarray:
     No periodic state of the supply puts a junction beyond it; a trial state that
     does would start its period with an absurd current pulse.
     """
-    c = ss.circuit
     params = ss.port_params
-    rw = np.min(np.stack([c.value(e.name, "r") for e in c.topology.elements
-                          if e.kind == "W"]), axis=0)
-    i_sc = (_max_emf(ss) / np.maximum(rw, 1e-3))[:, None]  # [A]
-    if c.topology.law == "valve":
+    i_sc = _short_circuit_a(ss)[:, None]  # [A]
+    if ss.circuit.topology.law == "valve":
         return (i_sc / params["k"]) ** (2.0 / 3.0)
     return params["nvt"] * np.log1p(i_sc / params["isat"])
 
@@ -398,16 +398,6 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
     # step reuses the last monodromy matrix (a chord step).
     monodromy = np.zeros((B, nx, ss.slow.size))
     near = np.zeros(B, dtype=bool)
-    # the point of lowest residual met so far, for designs that never converge
-    rec_r = np.full(B, np.inf)
-    rec_x = x.copy()
-    rec_out = (np.empty_like(out_x), np.empty_like(out_u), np.empty_like(out_y))
-
-    def record(sel: np.ndarray) -> None:
-        sel = sel[best_r[sel] < rec_r[sel]]
-        rec_r[sel], rec_x[sel] = best_r[sel], best_x[sel]
-        rec_out[0][:, sel], rec_out[1][:, sel] = out_x[:, sel], out_u[:, sel]
-        rec_out[2][:, sel] = out_y[:, sel]
 
     def newton(active: np.ndarray, n_iter: int) -> None:
         near[active] = False
@@ -441,21 +431,7 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
                 lam[active[go]] = 1.0
             back = ~improved
             lam[active[back]] *= 0.5
-            # A Newton step that fails even when cut to RELAX_BELOW points the wrong
-            # way: the map is far from linear between here and the fixed point (a
-            # switching pattern of the rectifiers that differs). Rather than give up,
-            # let the circuit run: the end of the best point's period becomes the new
-            # point, accepted whatever its residual, and Newton starts again from it.
-            relax = back & (lam[active] < RELAX_BELOW)
-            if np.any(relax):
-                ar = active[relax]
-                record(ar)
-                best_x[ar] = out_x[-1, ar]
-                best_r[ar] = np.inf
-                step[ar] = 0.0
-                lam[ar] = 1.0
-                near[ar] = False
-            keep = go | back
+            keep = go | (back & (lam[active] > 1e-3))
             active = active[keep]
             if active.size == 0:
                 break
@@ -467,19 +443,21 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
         # Second attempt for the designs Newton could not settle (lightly damped LC
         # sections, half-wave choke inputs): let the circuit itself run for a while from
         # the best point found, so that the modes Newton stumbled over die out, then
-        # shoot again.
-        record(failed)
+        # shoot again. The first attempt's result stays where the second is no better.
+        keep = (best_x[failed].copy(), best_r[failed].copy(), residual[failed].copy(),
+                out_x[:, failed].copy(), out_u[:, failed].copy(), out_y[:, failed].copy())
         xr = best_x[failed]
         for _ in range(fallback_periods):
             xr = stepper.run(xr, failed, sens=False)[0][-1]
         trial[failed] = xr
         best_r[failed] = np.inf
         newton(failed, max_iter)
-    # designs left unsettled report the lowest residual met on the way
-    worse = np.flatnonzero(~converged & (rec_r < residual))
-    if worse.size:
-        best_x[worse], residual[worse] = rec_x[worse], rec_r[worse]
-        out_x[:, worse], out_u[:, worse], out_y[:, worse] = (rec_out[0][:, worse],
-                                                             rec_out[1][:, worse],
-                                                             rec_out[2][:, worse])
+        worse = failed[~converged[failed] & (best_r[failed] > keep[1])]
+        if worse.size:
+            sel = np.searchsorted(failed, worse)
+            best_x[worse], best_r[worse], residual[worse] = (keep[0][sel], keep[1][sel],
+                                                             keep[2][sel])
+            out_x[:, worse], out_u[:, worse], out_y[:, worse] = (keep[3][:, sel],
+                                                                 keep[4][:, sel],
+                                                                 keep[5][:, sel])
     return SteadyState(ss, disc, out_x, out_u, out_y, stepper.s, converged, iterations, residual)
