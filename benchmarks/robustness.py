@@ -20,6 +20,10 @@ from designs import random_designs  # noqa: E402
 
 from supplydesign.analysis import evaluate  # noqa: E402
 
+#: the circumstances analysis.settling_hint names, as counted here
+HINTS = (("critical inductance", "choke input below critical"),
+         ("that rings", "ringing LC section"))
+
 
 def main() -> None:
     ap = argparse.ArgumentParser()
@@ -34,7 +38,9 @@ def main() -> None:
     silent = 0
     for f in figs:
         if not f.converged:
-            reasons[f.note.split(":")[0].split(" after ")[0]] += 1
+            head = f.note.split(";")[0].split(":")[0].split(" after ")[0]
+            hints = [name for key, name in HINTS if key in f.note]
+            reasons[head + (f" ({', '.join(hints)})" if hints else "")] += 1
             silent += not f.note
         else:
             values = [r.dc_v for r in f.rails] + [r.ripple_rms_v for r in f.rails]

@@ -48,8 +48,10 @@ from .statespace import Discrete, StateSpace, _stamp, discretize
 CURRENT_TOLERANCE_A = 1e-9
 #: relative residual below which Newton reuses the last monodromy matrix
 CHORD_BELOW = 1e-5
-#: periods of plain stepping before a second Newton attempt on designs that failed
-FALLBACK_PERIODS = 40
+#: periods of plain stepping before each further Newton attempt on designs that failed
+FALLBACK_PERIODS = 10
+#: further Newton attempts at most (each after FALLBACK_PERIODS plain periods)
+FALLBACK_ROUNDS = 3
 #: default number of steps per mains period
 STEPS_PER_PERIOD = 512
 
@@ -347,7 +349,7 @@ def initial_guess(ss: StateSpace) -> np.ndarray:
 
 
 def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: float = 1e-9,
-                          max_iter: int = 25, x0: np.ndarray | None = None,
+                          max_iter: int = 12, x0: np.ndarray | None = None,
                           fallback_periods: int | None = None) -> SteadyState:
     """Find the periodic steady state of every design of the batch (see module docstring).
 
@@ -362,13 +364,14 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
         in the energy norm (each state weighted by the square root of the
         capacitance or inductance holding it).
     max_iter : int
-        Newton iterations at most; designs that have not converged are flagged.
+        Newton iterations at most per attempt; designs that have not converged after
+        the last attempt are flagged.
     x0 : array, optional
         Starting state (B, nx); by default :func:`initial_guess`.
     fallback_periods : int, optional
-        Periods of plain stepping before a second attempt on designs that did not
-        converge (default ``FALLBACK_PERIODS``; 0 for none, as in the search, where
-        an unsettled candidate is simply infeasible).
+        Periods of plain stepping before each further attempt (``FALLBACK_ROUNDS`` at
+        most) on designs that did not converge (default ``FALLBACK_PERIODS``; 0 for
+        none, as in the search, where an unsettled candidate is simply infeasible).
     """
     if fallback_periods is None:
         fallback_periods = FALLBACK_PERIODS
@@ -438,26 +441,35 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
             trial[active] = best_x[active] + lam[active, None] * step[active]
 
     newton(np.arange(B), max_iter)
-    failed = np.flatnonzero(~converged)
-    if failed.size and fallback_periods > 0:
-        # Second attempt for the designs Newton could not settle (lightly damped LC
-        # sections, half-wave choke inputs): let the circuit itself run for a while from
-        # the best point found, so that the modes Newton stumbled over die out, then
-        # shoot again. The first attempt's result stays where the second is no better.
-        keep = (best_x[failed].copy(), best_r[failed].copy(), residual[failed].copy(),
-                out_x[:, failed].copy(), out_u[:, failed].copy(), out_y[:, failed].copy())
+    # Further attempts for the designs Newton could not settle (lightly damped LC
+    # sections, choke inputs below critical): let the circuit itself run for a few
+    # periods from the best point found, so that the modes Newton stumbled over die
+    # down, then shoot again. Each design keeps the best result of all attempts.
+    rec = None
+    for _round in range(FALLBACK_ROUNDS if fallback_periods > 0 else 0):
+        failed = np.flatnonzero(~converged)
+        if failed.size == 0:
+            break
+        if rec is None:
+            rec = (best_r.copy(), best_x.copy(), residual.copy(), out_x.copy(), out_u.copy(),
+                   out_y.copy())
+        else:
+            better = failed[best_r[failed] < rec[0][failed]]
+            for kept, now in zip(rec, (best_r, best_x, residual), strict=False):
+                kept[better] = now[better]
+            for kept, now in zip(rec[3:], (out_x, out_u, out_y), strict=True):
+                kept[:, better] = now[:, better]
         xr = best_x[failed]
         for _ in range(fallback_periods):
             xr = stepper.run(xr, failed, sens=False)[0][-1]
         trial[failed] = xr
         best_r[failed] = np.inf
         newton(failed, max_iter)
-        worse = failed[~converged[failed] & (best_r[failed] > keep[1])]
-        if worse.size:
-            sel = np.searchsorted(failed, worse)
-            best_x[worse], best_r[worse], residual[worse] = (keep[0][sel], keep[1][sel],
-                                                             keep[2][sel])
-            out_x[:, worse], out_u[:, worse], out_y[:, worse] = (keep[3][:, sel],
-                                                                 keep[4][:, sel],
-                                                                 keep[5][:, sel])
+    if rec is not None:
+        worse = np.flatnonzero(~converged & (rec[0] < best_r))
+        best_r[worse], best_x[worse], residual[worse] = (rec[0][worse], rec[1][worse],
+                                                         rec[2][worse])
+        out_x[:, worse], out_u[:, worse], out_y[:, worse] = (rec[3][:, worse],
+                                                             rec[4][:, worse],
+                                                             rec[5][:, worse])
     return SteadyState(ss, disc, out_x, out_u, out_y, stepper.s, converged, iterations, residual)

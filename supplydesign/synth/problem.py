@@ -31,6 +31,9 @@ IDLE_CASE = OperatingCase("idle", 1.0, "idle")
 #: steps per mains period during the search (the reported designs are re-evaluated
 #: with the default 512): DC within about 0.05 %, ripple 0.3 %, peak current 1-3 %
 SEARCH_STEPS = 128
+#: Newton iterations of a candidate's steady state in the search, in one attempt: a
+#: candidate that has not settled by then counts as infeasible
+SEARCH_ITERATIONS = 25
 
 
 @dataclass
@@ -97,7 +100,7 @@ def evaluate_population(space: SearchSpace, X: np.ndarray,
         w = tuple(bool(x) for x in row_key[1:])
         circuit = _group_circuit(space, dec, esr, rows, w)
         steady = periodic_steady_state(build_state_space(circuit), steps=steps,
-                                       fallback_periods=0)
+                                       max_iter=SEARCH_ITERATIONS, fallback_periods=0)
         fa = figure_arrays(Solved(circuit, steady))
         m = len(rows)
         half = {k: getattr(fa, k) for k in fa.__dataclass_fields__}
