@@ -22,7 +22,8 @@ from supplydesign.analysis import evaluate  # noqa: E402
 
 #: the circumstances analysis.settling_hint names, as counted here
 HINTS = (("critical inductance", "choke input below critical"),
-         ("that rings", "ringing LC section"))
+         ("that rings", "ringing LC section"),
+         ("rings with the capacitor", "choke ringing with the capacitor before it"))
 
 
 def main() -> None:

@@ -268,7 +268,8 @@ def settling_hint(design: Design, dc_v: np.ndarray, link_dc_a: np.ndarray) -> st
     load it carries, whose rectifier then conducts in bursts (the choke current
     falls to zero every cycle; Wikipedia, "Ripple (electrical)", L_c = R_L/3ω),
     and an LC section with little damping (Q from :func:`formulas.lc_section`),
-    whose slow ringing the rectifier keeps exciting. ``dc_v`` and ``link_dc_a``
+    whose slow ringing the rectifier keeps exciting, be it a choke with its own
+    capacitor or with a small capacitor before it. ``dc_v`` and ``link_dc_a``
     are the rail DC voltages [V] and link currents [A] of the best cycle found.
     Returns "" when neither applies.
     """
@@ -295,6 +296,14 @@ def settling_hint(design: Design, dc_v: np.ndarray, link_dc_a: np.ndarray) -> st
         if q > RINGING_Q:
             hints.append(f"rail {r.name!r} is an LC section that rings (f0 {float(f0):.3g} Hz, "
                          f"Q {float(q):.2g}) and settles slowly")
+        # the choke also rings with the capacitor before it, which no load damps
+        parent = design.rails[design.rail_index(r.parent)] if r.parent is not None else None
+        if parent is not None and parent.capacitor is not None:
+            f0, q = formulas.lc_section(r.link.inductance_h, parent.capacitor.capacitance_f,
+                                        r.link.resistance_ohm + parent.capacitor.esr_ohm)
+            if q > RINGING_Q:
+                hints.append(f"the choke of rail {r.name!r} rings with the capacitor of rail "
+                             f"{parent.name!r} (f0 {float(f0):.3g} Hz, Q {float(q):.2g})")
     return "; ".join(hints)
 
 

@@ -77,3 +77,17 @@ def test_a_converged_design_has_no_note_and_a_stopped_one_gets_the_hint():
     note = convergence_note(Arrays, 1, design)
     assert note.startswith("Newton shooting stopped after 65 iterations at a residual of 3.0e-04")
     assert "critical inductance" in note
+
+
+def test_the_hint_names_a_choke_ringing_with_a_small_reservoir():
+    # the choke sees the reservoir before it as an LC with no load damping: 10 H on
+    # 2 µF gives f0 = 1/(2π sqrt(LC)) = 35.6 Hz and Q = sqrt(L/C)/R = 2236/50.2 = 45
+    # (Wikipedia, "RLC circuit"), near the mains frequency
+    design = _supply("wire", c_f=2e-6, second_l_h=10.0)
+    hint = settling_hint(design, np.array([400.0, 390.0]), np.array([np.nan, 0.001]))
+    assert "the choke of rail 'next' rings with the capacitor of rail 'out' (f0 35.6 Hz, Q 45)" \
+        in hint
+    # with a 470 µF reservoir Q is 146/50.2 = 2.9: nothing to name
+    calm = _supply("wire", c_f=470e-6, second_l_h=10.0)
+    assert "rings with" not in settling_hint(calm, np.array([400.0, 390.0]),
+                                             np.array([np.nan, 0.001]))
