@@ -30,6 +30,8 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--count", type=int, default=10000)
     ap.add_argument("--seed", type=int, default=7)
+    ap.add_argument("--list", action="store_true",
+                    help="also print the index and note of every design that did not converge")
     args = ap.parse_args()
     designs = random_designs(args.count, args.seed)
     t0 = time.perf_counter()
@@ -53,6 +55,10 @@ def main() -> None:
     for why, n in reasons.most_common():
         print(f"  {n:6d}  {why}")
     print(f"silent failures (no reason, or non-finite figures when converged): {silent}")
+    if args.list:
+        for k, f in enumerate(figs):
+            if not f.converged:
+                print(f"  design {k}: {f.note}")
 
 
 if __name__ == "__main__":

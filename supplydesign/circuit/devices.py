@@ -42,7 +42,8 @@ def child_langmuir(v: np.ndarray, k: np.ndarray) -> tuple[np.ndarray, np.ndarray
     return k * vp * root, 1.5 * k * root
 
 
-def shockley(v: np.ndarray, isat: np.ndarray, nvt: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def shockley(v: np.ndarray, isat: np.ndarray, nvt: np.ndarray,
+             v_lin: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Junction current of a silicon diode on the Shockley law.
 
     .. math:: I = I_s \\left(e^{V/(n V_T)} - 1\\right)
@@ -58,6 +59,9 @@ def shockley(v: np.ndarray, isat: np.ndarray, nvt: np.ndarray) -> tuple[np.ndarr
         Saturation current I_s [A].
     nvt : array
         Emission coefficient times thermal voltage, n·V_T [V].
+    v_lin : array, optional
+        Where the linear continuation starts [V], n·V_T·ln(1e3 A / I_s); computed
+        when not given (callers in a loop pass it once worked out).
 
     Returns
     -------
@@ -71,7 +75,7 @@ def shockley(v: np.ndarray, isat: np.ndarray, nvt: np.ndarray) -> tuple[np.ndarr
     .. [1] W. Shockley, "The theory of p-n junctions in semiconductors and p-n
        junction transistors", Bell Syst. Tech. J. 28, 435-489 (1949).
     """
-    v_lin = nvt * np.log(SILICON_LINEAR_ABOVE_A / isat)
+    v_lin = nvt * np.log(SILICON_LINEAR_ABOVE_A / isat) if v_lin is None else v_lin
     e = np.exp(np.minimum(v, v_lin) / nvt)
     i = isat * (e - 1.0)
     g = isat * e / nvt
@@ -80,12 +84,22 @@ def shockley(v: np.ndarray, isat: np.ndarray, nvt: np.ndarray) -> tuple[np.ndarr
     return i, g
 
 
+def with_constants(law: str, params: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+    """``params`` with the constants :func:`junction` and :func:`limit_step` would
+    otherwise work out at every call (silicon: ``v_lin`` and ``v_crit``)."""
+    if law == "valve":
+        return params
+    nvt, isat = params["nvt"], params["isat"]
+    return {**params, "v_lin": nvt * np.log(SILICON_LINEAR_ABOVE_A / isat),
+            "v_crit": nvt * np.log(nvt / (np.sqrt(2.0) * isat))}
+
+
 def junction(law: str, v: np.ndarray,
              params: dict[str, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
     """Dispatch to the junction law of a topology ("valve" or "silicon")."""
     if law == "valve":
         return child_langmuir(v, params["k"])
-    return shockley(v, params["isat"], params["nvt"])
+    return shockley(v, params["isat"], params["nvt"], params.get("v_lin"))
 
 
 def limit_step(law: str, v_new: np.ndarray, v_old: np.ndarray,
@@ -104,10 +118,13 @@ def limit_step(law: str, v_new: np.ndarray, v_old: np.ndarray,
     if law == "valve":
         return v_new
     nvt = params["nvt"]
-    isat = params["isat"]
-    v_crit = nvt * np.log(nvt / (np.sqrt(2.0) * isat))
+    v_crit = params.get("v_crit")
+    if v_crit is None:
+        v_crit = nvt * np.log(nvt / (np.sqrt(2.0) * params["isat"]))
     dv = v_new - v_old
     big = (v_new > v_crit) & (np.abs(dv) > 2.0 * nvt)
+    if not big.any():
+        return v_new
     arg = 1.0 + dv / nvt
     limited = np.where(
         v_old > 0,

@@ -40,7 +40,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .devices import junction, limit_step
+from .devices import junction, limit_step, with_constants
 from .netlist import GROUND
 from .statespace import Discrete, StateSpace, _stamp, discretize
 
@@ -227,7 +227,7 @@ class _Stepper:
         ss, disc = self.ss, self.disc
         Phi, G0, G1, Cy = disc.Phi[sel], disc.G0[sel], disc.G1[sel], ss.Cy[sel]
         Z = self.Z_all[sel]
-        params = {p: v[sel] for p, v in self.params_all.items()}
+        params = with_constants(self.law, {p: v[sel] for p, v in self.params_all.items()})
         vscale = self.vscale_all[sel]
         forcing = self.forcing_all[:, sel]
         law = self.law
