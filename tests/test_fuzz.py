@@ -4,6 +4,7 @@ corruptions of valid files never escape as anything but a one-line user error.""
 from __future__ import annotations
 
 import math
+import os
 from pathlib import Path
 
 import pytest
@@ -15,7 +16,13 @@ from supplydesign.analysis import evaluate
 from supplydesign.errors import UserError
 from supplydesign.io.designfile import load_design
 
-EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "examples").glob("*.toml"))
+#: multiplies the number of examples (SUPPLYDESIGN_FUZZ_SCALE=10 for a deeper run by hand)
+SCALE = max(1, int(os.environ.get("SUPPLYDESIGN_FUZZ_SCALE", "1")))
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "examples").glob("*.toml"))
+#: the demo's brief, read as a brief (a design file with targets and "choose" left open)
+BRIEFS = [ROOT / "supplydesign" / "data" / "demo-brief.toml"]
 
 
 def _finite(fig) -> bool:
@@ -25,7 +32,7 @@ def _finite(fig) -> bool:
     return all(math.isfinite(v) for v in values)
 
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=40 * SCALE, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(designs())
 def test_random_designs_converge_or_say_so(design):
     fig = evaluate([design], steps=128)[0]
@@ -49,18 +56,19 @@ def _mutations(text: str):
     )
 
 
-@pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])
-def test_corrupted_files_fail_only_as_user_errors(path, tmp_path):
+@pytest.mark.parametrize("path,brief", [(p, False) for p in EXAMPLES] + [(p, True) for p in BRIEFS],
+                         ids=[p.stem for p in EXAMPLES + BRIEFS])
+def test_corrupted_files_fail_only_as_user_errors(path, brief, tmp_path):
     text = path.read_text()
 
-    @settings(max_examples=60, deadline=None,
+    @settings(max_examples=60 * SCALE, deadline=None,
               suppress_health_check=[HealthCheck.function_scoped_fixture])
     @given(_mutations(text))
     def run(mutated):
         f = tmp_path / "mutated.toml"
         f.write_text(mutated, encoding="utf-8", errors="surrogateescape")
         try:
-            load_design(f)
+            load_design(f, brief=brief)
         except UserError as err:
             line = err.line()
             assert "\n" not in line and str(f) in line
