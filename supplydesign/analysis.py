@@ -213,7 +213,10 @@ def figure_arrays(solved: Solved) -> FigureArrays:
         winding_rms_a=np.max([rms(i) for i in i_w], axis=0),
         winding_power_w=np.sum([rms(i) ** 2 * c.value(w.name, "r")
                                 for i, w in zip(i_w, windings, strict=True)], axis=0),
-        converged=st.converged, iterations=st.iterations, residual=st.residual)
+        # a rail at 0 V or below is no working steady state: the stages' constant currents
+        # are drawn through the rectifier the wrong way round (see convergence_note)
+        converged=st.converged & np.all(cols["dc_v"] > 0.0, axis=1),
+        iterations=st.iterations, residual=st.residual)
 
 
 def stack_rows(parts: list[tuple[np.ndarray, FigureArrays]], n: int) -> FigureArrays:
@@ -248,8 +251,10 @@ def convergence_note(fa: FigureArrays, b: int, design: Design | None = None) -> 
     if not np.all(np.isfinite(dc)) or not np.isfinite(fa.residual[b]):
         return "the solution diverged: no periodic steady state was found"
     if np.any(dc <= 0.0):
-        return ("the supply cannot carry the stage currents: a rail falls to 0 V or below, "
-                "so there is no steady state with these loads")
+        low = int(np.argmin(dc))
+        name = f"rail {design.rails[low].name!r}" if design is not None else "a rail"
+        return (f"the supply cannot carry the stage currents: {name} falls to {dc[low]:.3g} V, "
+                f"where no stage has a working point")
     note = (f"Newton shooting stopped after {int(fa.iterations[b])} iterations at a residual "
             f"of {fa.residual[b]:.1e}")
     hint = settling_hint(design, fa.dc_v[b], fa.link_dc_a[b]) if design is not None else ""

@@ -108,3 +108,47 @@ def test_light_choke_input_below_critical_settles():
         x = stepper.run(x, np.arange(1), sens=False)[0][-1]
     v0 = st.x[0, 0, ss.n_dynamic_nodes - 1]
     assert x[0, ss.n_dynamic_nodes - 1] == pytest.approx(v0, rel=1e-6)
+
+
+def _small_reservoir_half_wave() -> Design:
+    """Invented: half-wave silicon, a 1.5 µF reservoir and a 27 H choke that ring together
+    (f0 25 Hz, Q 4.8), then an RC section."""
+    return Design(
+        "small reservoir", Mains(50.0),
+        Transformer("single", open_circuit_v=120.0, resistance_ohm=5.2),
+        Rectifier(arrangement="half-wave"),
+        (Rail("a", None, Link("wire"), Capacitor(1.5e-6, esr_ohm=0.4), current_a=0.0032),
+         Rail("b", "a", Link("choke", resistance_ohm=900.0, inductance_h=27.0),
+              Capacitor(5.2e-6, esr_ohm=0.03), current_a=0.0188),
+         Rail("c", "b", Link("resistor", resistance_ohm=2600.0),
+              Capacitor(71e-6, esr_ohm=7.4), current_a=0.0059)))
+
+
+def test_a_slowly_settling_design_is_reached_by_extrapolating_its_decay(monkeypatch):
+    """Newton alone does not settle it from the DC estimate and the plain periods
+    decay by a few per cent a period; extrapolating that decay (Aitken) lands close
+    enough for Newton. Without the extrapolation the same budget does not settle."""
+    from supplydesign.circuit import steady
+
+    ss = build_state_space(build([_small_reservoir_half_wave()]))
+    assert periodic_steady_state(ss).converged.all()
+    monkeypatch.setattr(steady, "MAX_DECAY_RATIO", 0.0)
+    assert not periodic_steady_state(ss).converged.any()
+
+
+def test_a_rail_below_zero_is_no_working_steady_state():
+    """A half-wave valve supply with a 1.6 µF reservoir cannot give 35 mA: its periodic
+    solution has the rails below 0 V, where a stage drawing a constant current has no
+    working point; the figures say so (invented values)."""
+    design = Design(
+        "too small a reservoir", Mains(60.0),
+        Transformer("single", open_circuit_v=116.0, resistance_ohm=6.6, leakage_h=0.56e-3),
+        Rectifier(kind="valve", arrangement="half-wave", drop_v=50.0, drop_current_a=0.06),
+        (Rail("first", None, Link("wire"), Capacitor(1.6e-6, esr_ohm=0.5), current_a=0.025),
+         Rail("second", "first", Link("choke", resistance_ohm=180.0, inductance_h=10.0),
+              Capacitor(980e-6, esr_ohm=0.03), current_a=0.010)))
+    fig = evaluate([design])[0]
+    assert not fig.converged
+    assert min(r.dc_v for r in fig.rails) <= 0.0
+    assert fig.note.startswith("the supply cannot carry the stage currents: rail 'second' "
+                               "falls to -")

@@ -52,6 +52,8 @@ CHORD_BELOW = 1e-5
 FALLBACK_PERIODS = 10
 #: further Newton attempts at most (each after FALLBACK_PERIODS plain periods)
 FALLBACK_ROUNDS = 3
+#: largest period-to-period decay ratio the extrapolation after plain periods assumes
+MAX_DECAY_RATIO = 0.999
 #: default number of steps per mains period
 STEPS_PER_PERIOD = 512
 
@@ -444,7 +446,8 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
     # Further attempts for the designs Newton could not settle (lightly damped LC
     # sections, choke inputs below critical): let the circuit itself run for a few
     # periods from the best point found, so that the modes Newton stumbled over die
-    # down, then shoot again. Each design keeps the best result of all attempts.
+    # down, extrapolate the slowest decay, then shoot again from there. Each design
+    # keeps the best result of all attempts.
     rec = None
     for _round in range(FALLBACK_ROUNDS if fallback_periods > 0 else 0):
         failed = np.flatnonzero(~converged)
@@ -459,9 +462,20 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
                 kept[better] = now[better]
             for kept, now in zip(rec[3:], (out_x, out_u, out_y), strict=True):
                 kept[:, better] = now[:, better]
+        # the plain periods, then the rest of their geometric decay at once: the last two
+        # changes d_prev, d give the ratio q of the slowest mode, and the remaining
+        # changes sum to d q / (1 - q) (Aitken's extrapolation along d), kept to the
+        # trust region like a Newton step
         xr = best_x[failed]
+        d = d_prev = np.zeros_like(xr)
         for _ in range(fallback_periods):
-            xr = stepper.run(xr, failed, sens=False)[0][-1]
+            xn = stepper.run(xr, failed, sens=False)[0][-1]
+            d_prev, d, xr = d, xn - xr, xn
+        wf = w[failed]
+        q = np.clip(_weighted_norm(wf, d) / np.maximum(_weighted_norm(wf, d_prev), 1e-300),
+                    0.0, MAX_DECAY_RATIO if fallback_periods > 1 else 0.0)
+        xr = xr + _limit_step(d * (q / (1.0 - q))[:, None], xr, limit[failed],
+                              ss.Cy[failed], y_max[failed])
         trial[failed] = xr
         best_r[failed] = np.inf
         newton(failed, max_iter)

@@ -100,7 +100,7 @@ def render_evaluation(console, design: Design, full: Figures, idle: Figures | No
 
     console.rule(f"[bold]{design.title}[/]  ({design.source})")
     if not full.converged:
-        console.print(f"[bold red]The steady-state solver did not converge for this design "
+        console.print(f"[bold red]No working steady state was found for this design "
                       f"({full.note}); treat its figures with suspicion.[/]")
     console.print(rails_table(design, full, idle))
     console.print(stresses_table(design, full))
