@@ -18,7 +18,11 @@ that the period map P returns unchanged, x0 = P(x0), by Newton's method
    (the chain rule through the exact linear map and the junction law); after a
    period it is the monodromy matrix, and Newton's update solves
    (I - M) dx = P(x0) - x0.
-4. The Newton step is damped per design when the residual grows.
+4. The Newton step is kept to a trust region (see :func:`_limit_step`) and
+   damped per design when the residual grows.
+5. Designs left unsettled run a few plain periods, whose slowest decay is
+   extrapolated (Aitken's delta-squared idea along the last change), and shoot
+   again, up to ``FALLBACK_ROUNDS`` times.
 
 Because step 1 is exact and the steady state is a fixed point of the very map a
 long transient would iterate, the result equals the long-run steady state of the
@@ -32,6 +36,8 @@ References
    with periodic inputs", Proc. IEEE 60(1), 108-114 (1972).
 .. [2] K. S. Kundert, J. K. White, A. Sangiovanni-Vincentelli, *Steady-State
    Methods for Simulating Analog and Microwave Circuits*, Kluwer (1990), ch. 7.
+.. [3] A. C. Aitken, "On Bernoulli's numerical solution of algebraic equations",
+   Proc. Roy. Soc. Edinburgh 46, 289-305 (1926) (the delta-squared extrapolation).
 """
 
 from __future__ import annotations
