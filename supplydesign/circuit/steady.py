@@ -37,7 +37,8 @@ References
 .. [2] K. S. Kundert, J. K. White, A. Sangiovanni-Vincentelli, *Steady-State
    Methods for Simulating Analog and Microwave Circuits*, Kluwer (1990), ch. 7.
 .. [3] A. C. Aitken, "On Bernoulli's numerical solution of algebraic equations",
-   Proc. Roy. Soc. Edinburgh 46, 289-305 (1926) (the delta-squared extrapolation).
+   Proc. Roy. Soc. Edinburgh 46, 289-305 (1926) (the delta-squared extrapolation;
+   cited from memory).
 """
 
 from __future__ import annotations
