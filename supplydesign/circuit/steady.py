@@ -95,9 +95,11 @@ def _solve_small(J: np.ndarray, r: np.ndarray) -> np.ndarray:
     elif P == 2:
         a, b = J[:, 0, 0, None], J[:, 0, 1, None]
         c, d = J[:, 1, 0, None], J[:, 1, 1, None]
-        det = a * d - b * c
-        z = np.stack([(d * r[:, 0] - b * r[:, 1]) / det,
-                      (a * r[:, 1] - c * r[:, 0]) / det], axis=1)
+        inv_det = 1.0 / (a * d - b * c)
+        r0, r1 = r[:, 0], r[:, 1]
+        z = np.empty(np.broadcast_shapes(r.shape, (r.shape[0], 2, 1)))
+        z[:, 0] = (d * r0 - b * r1) * inv_det
+        z[:, 1] = (a * r1 - c * r0) * inv_det
     else:
         z = np.linalg.solve(J, r)
     return z[..., 0] if vec else z
