@@ -161,6 +161,18 @@ def test_header_and_control_lines(name):
     assert not any(ln.startswith(".save") for ln in lines)
 
 
+@pytest.mark.parametrize("name,damped", [("si_bridge_choke_input", True),
+                                         ("si_bridge_clc", False)])
+def test_model_elements_are_named_in_the_header(name, damped):
+    """The netlist tells the reader which elements are model, not parts: the choke
+    input's damping resistance only where the choke meets the rectifier."""
+    _, _, text = text_of(name)
+    lines = text.splitlines()
+    assert "*   C_cj* capacitance across each junction" in lines
+    assert ("*   R_rp* damping across a choke input's choke (its iron losses)" in lines) == damped
+    assert any(ln.startswith("R_rp1 ") for ln in lines) == damped
+
+
 def test_open_resistor_is_omitted():
     design, _ = load_circuit("si_bridge_small_reservoir")
     cold = build([design], OperatingCase("cold", 1.0, "none"))

@@ -264,6 +264,7 @@ def netlist(circuit: Circuit, index: int = 0, *, t_stop_s: float, t_step_s: floa
         f"* {CAUTION}",
         "* Runs from rest (uic): every capacitor discharged, every inductor without current.",
         "* To run: ngspice -b -r out.raw THIS.cir (or ngspice THIS.cir, then: run, plot v(rect))",
+        *_model_element_lines(topo),
         "*",
     ]
     for e in topo.elements:
@@ -276,6 +277,26 @@ def netlist(circuit: Circuit, index: int = 0, *, t_stop_s: float, t_step_s: floa
     out.append(f".tran {_num(t_step_s)} {_num(t_stop_s)} {_num(t_save_s)} {_num(t_step_s)} uic")
     out.append(".end")
     return "\n".join(out) + "\n"
+
+
+#: the netlist's model elements that are no part of the build, by role, and what they are
+MODEL_ELEMENTS = (
+    ("junction_c", "C_cj*", "capacitance across each junction"),
+    ("junction_g", "R_rj*", "conductance across each junction"),
+    ("node_c", "C_cp_*", "capacitance to ground at a node that would float"),
+    ("leakage_damping", "R_rs*", "damping across the leakage inductance"),
+    ("choke_damping", "R_rp*", "damping across a choke input's choke (its iron losses)"),
+)
+
+
+def _model_element_lines(topo) -> list[str]:
+    """Comment lines naming the model elements present (no part of the build)."""
+    roles = {e.role[0] for e in topo.elements if e.role}
+    found = [f"{name} {what}" for role, name, what in MODEL_ELEMENTS if role in roles]
+    if not found:
+        return []
+    return ["* Model elements, not parts to buy (supplydesign.circuit.netlist explains them):",
+            *(f"*   {line}" for line in found)]
 
 
 def _title_line(title: str) -> str:
