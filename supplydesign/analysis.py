@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .circuit.netlist import GROUND, NOMINAL, Circuit, OperatingCase, build, group_by_topology
+from .circuit.netlist import GROUND, NOMINAL, Circuit, OperatingCase, build, solving_groups
 from .circuit.statespace import build_state_space
 from .circuit.steady import STEPS_PER_PERIOD, SteadyState, periodic_steady_state
 from .design import Design
@@ -127,11 +127,15 @@ def peak(w: np.ndarray) -> np.ndarray:
 
 def solve(designs: Sequence[Design], case: OperatingCase = NOMINAL,
           steps: int = STEPS_PER_PERIOD) -> list[tuple[list[int], Solved]]:
-    """Solve the designs' steady state, one batch per topology: [(indices, Solved)]."""
+    """Solve the designs' steady state, one batch per topology: [(indices, Solved)].
+
+    ``steps`` per mains period at least; designs with a fast charging loop get more
+    (:func:`~supplydesign.circuit.netlist.steps_needed`) and a batch of their own.
+    """
     out = []
-    for idx in group_by_topology(designs):
+    for idx, n_steps in solving_groups(designs, steps):
         circuit = build([designs[i] for i in idx], case)
-        steady = periodic_steady_state(build_state_space(circuit), steps=steps)
+        steady = periodic_steady_state(build_state_space(circuit), steps=n_steps)
         out.append((idx, Solved(circuit, steady)))
     return out
 

@@ -23,7 +23,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .analysis import FigureArrays, Solved, figure_arrays, figures_of
-from .circuit.netlist import Circuit, OperatingCase, build, group_by_topology
+from .circuit.netlist import Circuit, OperatingCase, build, solving_groups
 from .circuit.statespace import build_state_space
 from .circuit.steady import STEPS_PER_PERIOD, initial_guess, periodic_steady_state
 from .design import Design
@@ -169,7 +169,7 @@ def solve_cases(designs: Sequence[Design], cases: Sequence[Case],
     place before the solve (such as loads scaled for a slope).
     """
     parts: dict[str, list] = {c.name: [] for c in cases}
-    for idx in group_by_topology(designs):
+    for idx, n_steps in solving_groups(designs, steps):
         sub = [designs[i] for i in idx]
         circuits = []
         for c in cases:
@@ -177,7 +177,7 @@ def solve_cases(designs: Sequence[Design], cases: Sequence[Case],
             if adjust is not None:
                 adjust(c, circuit)
             circuits.append(circuit)
-        solved = solve_circuit(concatenate(circuits), steps)
+        solved = solve_circuit(concatenate(circuits), n_steps)
         arrays = figure_arrays(solved)
         n = len(idx)
         for k, c in enumerate(cases):
