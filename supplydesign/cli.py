@@ -29,7 +29,8 @@ def _parser() -> argparse.ArgumentParser:
     ev.add_argument("--spice", metavar="OUT.cir",
                     help="write a SPICE netlist of the (first) design for cross-checking")
     ev.add_argument("--catalog", metavar="DIR", help="parts catalog directory to add")
-    ev.add_argument("--steps", type=int, default=512, help="solver steps per mains period")
+    ev.add_argument("--steps", type=int, default=512,
+                    help="solver steps per mains period, at least (a fast charging loop gets more)")
     ev.add_argument("--force", action="store_true", help="overwrite existing output files")
     ev.add_argument("--quiet", action="store_true", help="no console report")
     ev.add_argument("--nominal-only", action="store_true",
