@@ -97,3 +97,39 @@ def test_output_files_get_the_usual_permissions(tmp_path):
     umask = os.umask(0)
     os.umask(umask)
     assert (out.stat().st_mode & 0o777) == (0o666 & ~umask)
+
+
+def test_json_says_why_a_design_has_no_working_steady_state(tmp_path):
+    """A design whose reservoir cannot carry its stages (invented: 1.6 µF behind a
+    half-wave valve for 35 mA) is flagged in the JSON's solver object, with the rail;
+    evaluate still writes its figures and exits 1, as for any unsettled design."""
+    design = tmp_path / "weak.toml"
+    design.write_text('''title = "too small a reservoir (invented)"
+[mains]
+frequency = "60 Hz"
+[transformer]
+winding = "single"
+open_circuit = "116 V"
+resistance = "6.6 ohm"
+[rectifier]
+kind = "valve"
+arrangement = "half-wave"
+drop = "50 V"
+drop_current = "60 mA"
+[[rail]]
+name = "first"
+link = "wire"
+capacitor = { capacitance = "1.6 uF", esr = "0.5 ohm" }
+current = "25 mA"
+[[rail]]
+name = "second"
+link = { kind = "choke", inductance = "10 H", resistance = "180 ohm" }
+capacitor = { capacitance = "980 uF" }
+current = "10 mA"
+''')
+    out = tmp_path / "weak.json"
+    assert main(["evaluate", str(design), "--json", str(out), "--quiet",
+                 "--nominal-only"]) == 1
+    solver = json.loads(out.read_text())["solver"]
+    assert solver["converged"] is False
+    assert solver["note"].startswith("the supply cannot carry the stage currents: rail ")

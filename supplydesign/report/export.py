@@ -38,7 +38,7 @@ def evaluation_json(full: Figures, idle: Figures | None = None,
         "transformer": {"rms_a": full.transformer.rms_a,
                         "copper_loss_w": full.transformer.power_w},
         "solver": {"converged": full.converged, "iterations": full.iterations,
-                   "residual": full.residual},
+                   "residual": full.residual, "note": full.note},
     }
     if extra_cases:
         out.update(extra_cases)
