@@ -103,30 +103,17 @@ def test_json_says_why_a_design_has_no_working_steady_state(tmp_path):
     """A design whose reservoir cannot carry its stages (invented: 1.6 µF behind a
     half-wave valve for 35 mA) is flagged in the JSON's solver object, with the rail;
     evaluate still writes its figures and exits 1, as for any unsettled design."""
+    from supplydesign.design import Capacitor, Design, Link, Mains, Rail, Rectifier, Transformer
+    from supplydesign.io.tomlwrite import save_design
+
     design = tmp_path / "weak.toml"
-    design.write_text('''title = "too small a reservoir (invented)"
-[mains]
-frequency = "60 Hz"
-[transformer]
-winding = "single"
-open_circuit = "116 V"
-resistance = "6.6 ohm"
-[rectifier]
-kind = "valve"
-arrangement = "half-wave"
-drop = "50 V"
-drop_current = "60 mA"
-[[rail]]
-name = "first"
-link = "wire"
-capacitor = { capacitance = "1.6 uF", esr = "0.5 ohm" }
-current = "25 mA"
-[[rail]]
-name = "second"
-link = { kind = "choke", inductance = "10 H", resistance = "180 ohm" }
-capacitor = { capacitance = "980 uF" }
-current = "10 mA"
-''')
+    save_design(Design(
+        "too small a reservoir (invented)", Mains(60.0),
+        Transformer("single", open_circuit_v=116.0, resistance_ohm=6.6),
+        Rectifier(kind="valve", arrangement="half-wave", drop_v=50.0, drop_current_a=0.06),
+        (Rail("first", None, Link("wire"), Capacitor(1.6e-6, esr_ohm=0.5), current_a=0.025),
+         Rail("second", "first", Link("choke", resistance_ohm=180.0, inductance_h=10.0),
+              Capacitor(980e-6), current_a=0.010))), design)
     out = tmp_path / "weak.json"
     assert main(["evaluate", str(design), "--json", str(out), "--quiet",
                  "--nominal-only"]) == 1
