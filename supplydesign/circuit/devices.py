@@ -75,7 +75,7 @@ def shockley(v: np.ndarray, isat: np.ndarray, nvt: np.ndarray,
     .. [1] W. Shockley, "The theory of p-n junctions in semiconductors and p-n
        junction transistors", Bell Syst. Tech. J. 28, 435-489 (1949).
     """
-    v_lin = nvt * np.log(SILICON_LINEAR_ABOVE_A / isat) if v_lin is None else v_lin
+    v_lin = _v_lin(nvt, isat) if v_lin is None else v_lin
     e = np.exp(np.minimum(v, v_lin) / nvt)
     i = isat * (e - 1.0)
     g = isat * e / nvt
@@ -90,8 +90,17 @@ def with_constants(law: str, params: dict[str, np.ndarray]) -> dict[str, np.ndar
     if law == "valve":
         return params
     nvt, isat = params["nvt"], params["isat"]
-    return {**params, "v_lin": nvt * np.log(SILICON_LINEAR_ABOVE_A / isat),
-            "v_crit": nvt * np.log(nvt / (np.sqrt(2.0) * isat))}
+    return {**params, "v_lin": _v_lin(nvt, isat), "v_crit": _v_crit(nvt, isat)}
+
+
+def _v_lin(nvt: np.ndarray, isat: np.ndarray) -> np.ndarray:
+    """Voltage above which the Shockley law is continued linearly [V]."""
+    return nvt * np.log(SILICON_LINEAR_ABOVE_A / isat)
+
+
+def _v_crit(nvt: np.ndarray, isat: np.ndarray) -> np.ndarray:
+    """SPICE's critical voltage of pn limiting, n·V_T·ln(n·V_T / (√2·I_s)) [V]."""
+    return nvt * np.log(nvt / (np.sqrt(2.0) * isat))
 
 
 def junction(law: str, v: np.ndarray,
@@ -120,7 +129,7 @@ def limit_step(law: str, v_new: np.ndarray, v_old: np.ndarray,
     nvt = params["nvt"]
     v_crit = params.get("v_crit")
     if v_crit is None:
-        v_crit = nvt * np.log(nvt / (np.sqrt(2.0) * params["isat"]))
+        v_crit = _v_crit(nvt, params["isat"])
     dv = v_new - v_old
     big = (v_new > v_crit) & (np.abs(dv) > 2.0 * nvt)
     if not big.any():

@@ -184,6 +184,16 @@ class OperatingCase:
 NOMINAL = OperatingCase()
 
 
+def rails_on_output(design: Design) -> list:
+    """The rails wired straight to the rectifier output (a chain of wire links from
+    the first rail), in file order."""
+    at_out: list[bool] = []
+    for r in design.rails:
+        parent_at_out = r.parent is None or at_out[design.rail_index(r.parent)]
+        at_out.append(parent_at_out and r.link.kind == "wire")
+    return [r for r, a in zip(design.rails, at_out, strict=True) if a]
+
+
 def topology_of(design: Design) -> Topology:
     tr, rect = design.transformer, design.rectifier
     winding, arrangement = tr.winding, rect.arrangement
@@ -230,13 +240,8 @@ def topology_of(design: Design) -> Topology:
     else:  # validated earlier; kept as a guard for programmatic use
         raise ValueError(f"unknown arrangement {arrangement!r}")
 
-    # does any rail put a capacitor straight on the rectifier output? (else: choke input)
-    at_out: list[bool] = []
-    for r in design.rails:
-        parent_at_out = r.parent is None or at_out[design.rail_index(r.parent)]
-        at_out.append(parent_at_out and r.link.kind == "wire")
-    choke_input = not any(a and r.capacitor is not None
-                          for a, r in zip(at_out, design.rails, strict=True))
+    # a choke input: no rail puts a capacitor straight on the rectifier output
+    choke_input = not any(r.capacitor is not None for r in rails_on_output(design))
 
     rail_nodes: list[str] = []
     for i, r in enumerate(design.rails):
@@ -415,16 +420,11 @@ def charging_time_constant_s(design: Design) -> float:
     on the 3/2-power law; a bridge has two in the path. ``inf`` for a choke input,
     whose choke smooths the pulse.
     """
-    at_out: list[bool] = []
-    c_f, esr = 0.0, np.inf
-    for r in design.rails:
-        parent_at_out = r.parent is None or at_out[design.rail_index(r.parent)]
-        at_out.append(parent_at_out and r.link.kind == "wire")
-        if at_out[-1] and r.capacitor is not None:
-            c_f += r.capacitor.capacitance_f
-            esr = min(esr, r.capacitor.esr_ohm)
-    if c_f == 0.0:
+    caps = [r.capacitor for r in rails_on_output(design) if r.capacitor is not None]
+    if not caps:
         return np.inf
+    c_f = sum(c.capacitance_f for c in caps)
+    esr = min(c.esr_ohm for c in caps)
     rect = design.rectifier
     if rect.kind == "valve":
         r_rect = 2.0 / 3.0 * rect.drop_v / rect.drop_current_a

@@ -18,7 +18,7 @@ that the period map P returns unchanged, x0 = P(x0), by Newton's method
    (the chain rule through the exact linear map and the junction law); after a
    period it is the monodromy matrix, and Newton's update solves
    (I - M) dx = P(x0) - x0.
-4. The Newton step is kept to a trust region (see :func:`_limit_step`) and
+4. The Newton step is kept to a trust region (see :func:`_trust_region`) and
    damped per design when the residual grows.
 5. Designs left unsettled run a few plain periods, whose slowest decay is
    extrapolated (Aitken's delta-squared idea along the last change), and shoot
@@ -97,7 +97,7 @@ def _solve_small(J: np.ndarray, r: np.ndarray) -> np.ndarray:
         c, d = J[:, 1, 0, None], J[:, 1, 1, None]
         inv_det = 1.0 / (a * d - b * c)
         r0, r1 = r[:, 0], r[:, 1]
-        z = np.empty(np.broadcast_shapes(r.shape, (r.shape[0], 2, 1)))
+        z = np.empty(r.shape)
         z[:, 0] = (d * r0 - b * r1) * inv_det
         z[:, 1] = (a * r1 - c * r0) * inv_det
     else:
@@ -160,44 +160,33 @@ def _newton_step(M: np.ndarray, r: np.ndarray, slow: np.ndarray) -> np.ndarray:
     return dx
 
 
-def _step_limit(ss: StateSpace) -> np.ndarray:
-    """Largest sensible change of each state in one Newton step, shape (B, nx).
+def _trust_region(ss: StateSpace) -> tuple[np.ndarray, np.ndarray]:
+    """Largest sensible change of each state in one Newton step, (B, nx), and the
+    largest sensible junction voltage, (B, P) [V].
 
     A periodic steady state of a passive filter fed through rectifiers holds its
     capacitor voltages within a small multiple of the winding emf and its choke
-    currents within what the emf can drive through the winding resistance. A
-    Newton step of a nearly singular (I - M), which lightly damped sections and
-    barely conducting rectifiers produce, can point far outside that box; such a
-    step is shortened to it (a trust region), so that no trial period is run
-    from absurd voltages, where the junction law cannot be solved.
+    currents within what the emf can drive through the winding resistance (the
+    short-circuit current, largest emf over smallest winding resistance); no
+    junction passes more than that current either. A Newton step of a nearly
+    singular (I - M), which lightly damped sections and barely conducting
+    rectifiers produce, can point far outside; such a step is shortened (see
+    :func:`_limit_step`), so that no trial period starts from absurd voltages,
+    where the junction law cannot be solved.
     """
-    vscale = _max_emf(ss)  # [V]
-    lim = np.empty((vscale.size, ss.nx))
-    lim[:, : ss.n_dynamic_nodes] = vscale[:, None]
-    lim[:, ss.n_dynamic_nodes:] = _short_circuit_a(ss)[:, None]
-    return lim
-
-
-def _short_circuit_a(ss: StateSpace) -> np.ndarray:
-    """Largest winding emf over the smallest winding resistance, shape (B,) [A]."""
     c = ss.circuit
-    rw = np.min(np.stack([c.value(e.name, "r") for e in c.topology.elements
-                          if e.kind == "W"]), axis=0)  # [ohm]
-    return _max_emf(ss) / np.maximum(rw, 1e-3)
-
-
-def _forward_limit(ss: StateSpace) -> np.ndarray:
-    """Junction voltage at which a junction passes the winding's short-circuit current
-    (largest emf over smallest winding resistance), shape (B, P) [V].
-
-    No periodic state of the supply puts a junction beyond it; a trial state that
-    does would start its period with an absurd current pulse.
-    """
+    emf = _max_emf(ss)  # [V]
+    rw = np.min(np.stack([c.value(e.name, "r") for e in c.topology.of_kind("W")]), axis=0)
+    i_sc = emf / np.maximum(rw, 1e-3)  # [A]
+    limit = np.empty((emf.size, ss.nx))
+    limit[:, : ss.n_dynamic_nodes] = emf[:, None]
+    limit[:, ss.n_dynamic_nodes:] = i_sc[:, None]
     params = ss.port_params
-    i_sc = _short_circuit_a(ss)[:, None]  # [A]
-    if ss.circuit.topology.law == "valve":
-        return (i_sc / params["k"]) ** (2.0 / 3.0)
-    return params["nvt"] * np.log1p(i_sc / params["isat"])
+    if c.topology.law == "valve":
+        y_max = (i_sc[:, None] / params["k"]) ** (2.0 / 3.0)
+    else:
+        y_max = params["nvt"] * np.log1p(i_sc[:, None] / params["isat"])
+    return limit, y_max
 
 
 def _limit_step(step: np.ndarray, x: np.ndarray, limit: np.ndarray, Cy: np.ndarray,
@@ -392,8 +381,7 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: fl
     stepper = _Stepper(ss, disc, steps)
     x = initial_guess(ss) if x0 is None else x0.copy()
     w = ss.weights
-    limit = _step_limit(ss)
-    y_max = _forward_limit(ss)
+    limit, y_max = _trust_region(ss)
     P = ss.Cy.shape[1]
 
     best_x = x.copy()
