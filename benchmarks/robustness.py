@@ -22,15 +22,12 @@ sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from designs import random_designs  # noqa: E402
 
 from supplydesign.analysis import evaluate  # noqa: E402
+from supplydesign.circuit.steady import SHOOTING_TOLERANCE  # noqa: E402
 
 #: the circumstances analysis.settling_hint names, as counted here
 HINTS = (("critical inductance", "choke input below critical"),
          ("that rings", "ringing LC section"),
          ("rings with the capacitor", "choke ringing with the capacitor before it"))
-
-
-#: the shooting's convergence threshold (steady.periodic_steady_state's default tol)
-SOLVER_TOLERANCE = 1e-9
 
 
 def main() -> None:
@@ -47,7 +44,7 @@ def main() -> None:
     reasons = collections.Counter()
     silent = working = unworkable = 0
     for f in figs:
-        settled = f.residual <= SOLVER_TOLERANCE  # the shooting met its tolerance
+        settled = f.residual <= SHOOTING_TOLERANCE  # the shooting met its tolerance
         if f.converged:
             values = [r.dc_v for r in f.rails] + [r.ripple_rms_v for r in f.rails]
             values += [f.rectifier.peak_a]

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .circuit import formulas
 from .circuit.netlist import GROUND, NOMINAL, Circuit, OperatingCase, build, solving_groups
 from .circuit.statespace import build_state_space
 from .circuit.steady import STEPS_PER_PERIOD, SteadyState, periodic_steady_state
@@ -282,8 +283,6 @@ def settling_hint(design: Design, dc_v: np.ndarray, link_dc_a: np.ndarray) -> st
     are the rail DC voltages [V] and link currents [A] of the best cycle found.
     Returns "" when neither applies.
     """
-    from .circuit import formulas
-
     hints = []
     first = design.rails[0]
     if first.link.kind == "choke" and link_dc_a[0] > 0.0 and dc_v[0] > 0.0:

@@ -53,6 +53,8 @@ from .statespace import Discrete, StateSpace, _stamp, discretize
 
 #: junction Newton iterations stop when the last step changes a current by less [A]
 CURRENT_TOLERANCE_A = 1e-9
+#: relative residual at which a steady state counts as found (energy norm)
+SHOOTING_TOLERANCE = 1e-9
 #: relative residual below which Newton reuses the last monodromy matrix
 CHORD_BELOW = 1e-5
 #: periods of plain stepping before each further Newton attempt on designs that failed
@@ -348,7 +350,8 @@ def initial_guess(ss: StateSpace) -> np.ndarray:
     return x0
 
 
-def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD, tol: float = 1e-9,
+def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD,
+                          tol: float = SHOOTING_TOLERANCE,
                           max_iter: int = 12, x0: np.ndarray | None = None,
                           fallback_periods: int | None = None) -> SteadyState:
     """Find the periodic steady state of every design of the batch (see module docstring).
