@@ -170,7 +170,8 @@ def test_a_rail_below_zero_is_no_working_steady_state():
 def test_a_fast_charging_loop_gets_more_steps():
     """One step at most one charging time constant (R_w + R_diode + ESR)·C: 1.5 µF
     behind 5.65 Ω is 8.5 µs, and 50 Hz needs 4096 steps (4.9 µs) for that; a choke
-    input's pulse is smoothed by its choke and keeps the minimum (circuit theory)."""
+    input's pulse is smoothed by its choke and keeps the minimum (RC time constant of
+    circuit theory [practice]; values [derived])."""
     from supplydesign.circuit.netlist import charging_time_constant_s, steps_needed
 
     small = _small_reservoir_half_wave()
@@ -186,7 +187,9 @@ def test_a_fast_charging_loop_gets_more_steps():
 
 def test_the_peak_current_of_a_fast_loop_is_that_of_a_fine_step():
     """With the steps chosen for it, the peak charging current of the small reservoir
-    is within 0.1 % of a run at 8192 steps; at a fixed 512 it was 17 % high."""
+    is within 0.1 % of a run at 8192 steps; at a fixed 512 it was 17 % high. (ngspice
+    [source: independent simulator] checks the same circuit in test_ngspice_crosscheck,
+    si_hw_small_reservoir_choke.)"""
     from supplydesign.circuit.netlist import MAX_STEPS_PER_PERIOD
 
     design = _small_reservoir_half_wave()

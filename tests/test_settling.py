@@ -32,8 +32,9 @@ def _dampers(design: Design):
 
 
 def test_a_choke_input_choke_carries_its_damping_resistance():
-    # CHOKE_DAMPING * sqrt(L / C_junction): Q 4 for the choke ringing with the junction
-    # capacitance once its current stops (see the netlist module docstring)
+    # a model choice, not an outside reference: CHOKE_DAMPING * sqrt(L / C_junction),
+    # Q 4 for the choke ringing with the junction capacitance once its current stops
+    # (see the netlist module docstring)
     got = _dampers(_supply("choke", l_h=9.0))
     assert got == {"rp1": pytest.approx(CHOKE_DAMPING * np.sqrt(9.0 / JUNCTION_CAPACITANCE))}
     assert got["rp1"] == pytest.approx(1.2e6)
@@ -47,7 +48,8 @@ def test_a_choke_after_a_reservoir_capacitor_has_none():
 
 
 def test_the_hint_names_a_choke_input_below_its_critical_inductance():
-    # L_c = R_L / 3ω (Wikipedia, "Ripple (electrical)"): at 300 V and 5 mA R_L is
+    # L_c = R_L / 3ω (Wikipedia, "Ripple (electrical)" [source]; REFERENCES item 4),
+    # values [derived]: at 300 V and 5 mA R_L is
     # 60 kΩ and L_c = 60e3 / (3 · 2π · 50) = 63.7 H, far above the 5 H fitted
     design = _supply("choke", l_h=5.0, current_a=0.005)
     hint = settling_hint(design, np.array([300.0]), np.array([0.005]))
@@ -57,8 +59,8 @@ def test_the_hint_names_a_choke_input_below_its_critical_inductance():
 
 
 def test_the_hint_names_a_ringing_lc_section():
-    # series-RLC Q = sqrt(L/C)/R (Wikipedia, "RLC circuit"): 20 H, 100 µF, 50 Ω
-    # and a light load give Q near 8.9, above RINGING_Q
+    # series-RLC Q = sqrt(L/C)/R (Wikipedia, "RLC circuit" [source]), values [derived]:
+    # 20 H, 100 µF, 50 Ω and a light load give Q near 8.9, above RINGING_Q
     design = _supply("wire", second_l_h=20.0)
     hint = settling_hint(design, np.array([400.0, 390.0]), np.array([np.nan, 0.001]))
     assert "rail 'next' is an LC section that rings" in hint
@@ -82,7 +84,7 @@ def test_a_converged_design_has_no_note_and_a_stopped_one_gets_the_hint():
 def test_the_hint_names_a_choke_ringing_with_a_small_reservoir():
     # the choke sees the reservoir before it as an LC with no load damping: 10 H on
     # 2 µF gives f0 = 1/(2π sqrt(LC)) = 35.6 Hz and Q = sqrt(L/C)/R = 2236/50.2 = 45
-    # (Wikipedia, "RLC circuit"), near the mains frequency
+    # (Wikipedia, "RLC circuit" [source]; values [derived]), near the mains frequency
     design = _supply("wire", c_f=2e-6, second_l_h=10.0)
     hint = settling_hint(design, np.array([400.0, 390.0]), np.array([np.nan, 0.001]))
     assert "the choke of rail 'next' rings with the capacitor of rail 'out' (f0 35.6 Hz, Q 45)" \
