@@ -21,8 +21,8 @@ sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 
 from designs import random_designs  # noqa: E402
 
-from supplydesign.analysis import evaluate  # noqa: E402
 from supplydesign.circuit.steady import SHOOTING_TOLERANCE  # noqa: E402
+from supplydesign.evaluation.analysis import evaluate  # noqa: E402
 
 #: the circumstances analysis.settling_hint names, as counted here
 HINTS = (("critical inductance", "choke input below critical"),

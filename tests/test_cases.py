@@ -16,20 +16,20 @@ import pytest
 from numpy.testing import assert_allclose
 from spice_support import load_circuit
 
-from supplydesign.cases import (
+from supplydesign.circuit import formulas
+from supplydesign.circuit.netlist import THERMAL_VOLTAGE_27C
+from supplydesign.cli import main
+from supplydesign.evaluation.cases import (
     HIGH_MAINS_IDLE,
     HIGH_MAINS_NO_LOAD,
     LOW_MAINS_FULL_LOAD,
     mains_factors,
     solve_case,
 )
-from supplydesign.circuit import formulas
-from supplydesign.circuit.netlist import THERMAL_VOLTAGE_27C
-from supplydesign.cli import main
+from supplydesign.evaluation.stress import capacitor_stress, checks, constraints
+from supplydesign.evaluation.worstcase import analyse
 from supplydesign.io.designfile import load_design
 from supplydesign.io.tomlwrite import dump_design
-from supplydesign.stress import capacitor_stress, checks, constraints
-from supplydesign.worstcase import analyse
 
 ROOT = Path(__file__).resolve().parents[1]
 PUSHPULL = ROOT / "examples" / "pushpull-choke.toml"

@@ -12,11 +12,11 @@ import math
 import numpy as np
 import pytest
 
-from supplydesign.cases import HIGH_MAINS_NO_LOAD, case_circuit
 from supplydesign.circuit import formulas
 from supplydesign.circuit.smallsignal import discharge_times, output_impedance
 from supplydesign.design import Capacitor, Design, Link, Mains, Rail, Rectifier, Transformer
-from supplydesign.stress import damping
+from supplydesign.evaluation.cases import HIGH_MAINS_NO_LOAD, case_circuit
+from supplydesign.evaluation.stress import damping
 
 
 def test_critical_inductance_worked_values():

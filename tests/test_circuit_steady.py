@@ -5,11 +5,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from supplydesign.analysis import evaluate
 from supplydesign.circuit.netlist import build
 from supplydesign.circuit.statespace import build_state_space, discretize
 from supplydesign.circuit.steady import _Stepper, initial_guess, periodic_steady_state
 from supplydesign.design import Capacitor, Design, Link, Mains, Rail, Rectifier, Transformer
+from supplydesign.evaluation.analysis import evaluate
 
 
 def _design(kind="silicon", leakage=0.0, c1=47e-6, first="wire", load=0.1):

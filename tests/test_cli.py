@@ -75,7 +75,7 @@ def test_readme_example_design_evaluates(tmp_path):
 @pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])
 def test_examples_meet_their_own_targets(path, tmp_path):
     """The shipped examples are designs a builder could start from: in tolerance, hum met."""
-    from supplydesign.analysis import evaluate
+    from supplydesign.evaluation.analysis import evaluate
     from supplydesign.io.designfile import load_design
 
     design = load_design(path)

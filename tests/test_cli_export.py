@@ -45,8 +45,8 @@ def test_evaluate_plots_with_the_worst_cases(two_rails, tmp_path):
 
 
 def test_switch_on_trace_is_the_analysed_run(two_rails):
+    from supplydesign.evaluation.worstcase import analyse
     from supplydesign.report.pictures import impedance_curves, switch_on_traces
-    from supplydesign.worstcase import analyse
 
     design = load_design(two_rails)
     wc = analyse([design])

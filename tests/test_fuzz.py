@@ -12,8 +12,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from strategies import designs
 
-from supplydesign.analysis import evaluate
 from supplydesign.errors import UserError
+from supplydesign.evaluation.analysis import evaluate
 from supplydesign.io.designfile import load_design
 
 #: multiplies the number of examples (SUPPLYDESIGN_FUZZ_SCALE=10 for a deeper run by hand)

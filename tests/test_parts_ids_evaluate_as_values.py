@@ -14,7 +14,7 @@ from dataclasses import replace
 
 import pytest
 
-from supplydesign.analysis import IDLE, evaluate
+from supplydesign.evaluation.analysis import IDLE, evaluate
 from supplydesign.io.designfile import load_design
 from supplydesign.io.tomlwrite import format_quantity
 from supplydesign.parts import load_catalog

@@ -16,19 +16,17 @@ import numpy as np
 import pytest
 from rating_support import ONE_RAIL
 
-from supplydesign.analysis import evaluate
 from supplydesign.design import Capacitor, Design, Link, Mains, Rail, Rectifier, Transformer
-from supplydesign.figures import Figures, RailFigures, RectifierFigures, TransformerFigures
+from supplydesign.evaluation.analysis import evaluate
+from supplydesign.evaluation.figures import (
+    Figures,
+    RailFigures,
+    RectifierFigures,
+    TransformerFigures,
+)
 from supplydesign.io.designfile import load_design
 from supplydesign.io.tomlwrite import dump_design
 from supplydesign.parts import load_catalog
-from supplydesign.parts.ratedesign import (
-    NOT_MET,
-    high_mains_no_load,
-    rate_design,
-    rate_evaluated,
-    resistor_voltage,
-)
 from supplydesign.parts.rating import (
     RatingRules,
     candidate_pool,
@@ -36,6 +34,13 @@ from supplydesign.parts.rating import (
     choose_chokes,
     choose_resistors,
     ripple_factor,
+)
+from supplydesign.synth.rate import (
+    NOT_MET,
+    high_mains_no_load,
+    rate_design,
+    rate_evaluated,
+    resistor_voltage,
 )
 
 TEST_CATALOG = {

@@ -1,7 +1,7 @@
 """The evaluator against published rectifier and filter formulas.
 
 Each test builds designs in Python, evaluates them with
-:func:`supplydesign.analysis.evaluate` and compares the figures with a formula of
+:func:`supplydesign.evaluation.analysis.evaluate` and compares the figures with a formula of
 REFERENCES.md, "Rectifier and filter formulas" (items numbered as there). The
 source and its tag stand beside each check; each tolerance says where it comes
 from: the formula's own approximation, or what the model keeps of a real circuit
@@ -23,9 +23,9 @@ import pytest
 from numpy.testing import assert_allclose
 from scipy.optimize import brentq
 
-from supplydesign.analysis import evaluate
 from supplydesign.circuit.netlist import THERMAL_VOLTAGE_27C
 from supplydesign.design import Capacitor, Design, Link, Mains, Rail, Rectifier, Transformer
+from supplydesign.evaluation.analysis import evaluate
 
 STEPS = 512  # the evaluator's default steps per mains period
 MAINS_HZ = 50.0

@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 from report_support import chromium, small_run
 
-from supplydesign.report.cautions import CAUTION_LINES
+from supplydesign.cautions import CAUTION_LINES
 from supplydesign.report.html import synth_report_html
 from supplydesign.report.pictures import synth_figures
 from supplydesign.report.plots import RAIL_COLOURS, svg_markup

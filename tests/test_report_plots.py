@@ -188,7 +188,7 @@ def test_existing_picture_is_kept_without_force(run, tmp_path):
 
 
 def test_drawing_solves_nothing(run, monkeypatch):
-    import supplydesign.analysis as analysis
+    import supplydesign.evaluation.analysis as analysis
 
     def refuse(*a, **k):
         raise AssertionError("a picture tried to solve a circuit")

@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from supplydesign.analysis import convergence_note, settling_hint
 from supplydesign.circuit.netlist import CHOKE_DAMPING, JUNCTION_CAPACITANCE, build
 from supplydesign.design import Capacitor, Design, Link, Mains, Rail, Rectifier, Transformer
+from supplydesign.evaluation.analysis import convergence_note, settling_hint
 
 
 def _supply(first: str, l_h: float = 5.0, current_a: float = 0.05, c_f: float = 47e-6,

@@ -8,8 +8,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from supplydesign.analysis import IDLE, evaluate
 from supplydesign.cli import main
+from supplydesign.evaluation.analysis import IDLE, evaluate
 from supplydesign.io.designfile import load_design
 from supplydesign.parts import load_catalog
 from supplydesign.synth.run import SynthOptions, synthesize

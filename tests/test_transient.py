@@ -26,11 +26,11 @@ import pytest
 from numpy.testing import assert_allclose
 from spice_support import _code_hash, _ngspice_version, load_circuit, ngspice_or_skip
 
-from supplydesign.cases import HIGH_MAINS_NO_LOAD, case_circuit
 from supplydesign.circuit import spice
 from supplydesign.circuit.netlist import THERMAL_VOLTAGE_27C, build
 from supplydesign.circuit.transient import SURGE_FROM_S, phase_circuits, switch_on
 from supplydesign.design import Capacitor, Design, Mains, Rail, Rectifier, Transformer
+from supplydesign.evaluation.cases import HIGH_MAINS_NO_LOAD, case_circuit
 
 CROSSCHECK = ("valve_fw_crc", "si_bridge_small_reservoir", "valve_fw_four_section",
               "valve_fw_choke_input", "si_bridge_choke_input")
@@ -164,7 +164,7 @@ def test_rectifier_delay_shifts_times_only():
 def test_stage_warming_up_pulls_the_rail_down_to_its_loaded_level():
     """With the stage coming on at 0.3 s, the rail ends near its high-mains idle DC,
     below the no-load level it held before; phase 0 equals the cold run until then."""
-    from supplydesign.cases import HIGH_MAINS_IDLE, solve_case
+    from supplydesign.evaluation.cases import HIGH_MAINS_IDLE, solve_case
 
     d = _silicon_single()
     cold = case_circuit([d], HIGH_MAINS_NO_LOAD)

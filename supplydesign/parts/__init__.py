@@ -9,8 +9,6 @@
 - :mod:`.describe`: catalog contents as text tables
 - :mod:`.rating`: the cheapest adequate part for given stresses, vectorised
   (``choose_capacitors``, ``choose_chokes``, ``choose_resistors``, ``candidate_pool``)
-- :mod:`.ratedesign`: ratings of one design with reasons (``rate_design``,
-  ``rate_evaluated``)
 - :mod:`.query`: parts with a given value, checks of user catalogs
 """
 

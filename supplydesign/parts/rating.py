@@ -4,7 +4,7 @@ The array functions here take whole populations (one stress per candidate
 design) and a candidate table with the keys of :meth:`Catalog.table`, and
 return the row of the cheapest part that is adequate for each candidate. The
 per-design side (a rated :class:`~supplydesign.design.Design` with its reasons)
-is :mod:`supplydesign.parts.ratedesign`.
+is :mod:`supplydesign.synth.rate`.
 
 What "adequate" means (the rules, with the assumptions made):
 

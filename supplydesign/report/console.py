@@ -4,11 +4,11 @@ from __future__ import annotations
 
 import math
 
-from ..analysis import regulation_pct
+from ..cautions import CAUTION_LINES
 from ..design import Design
-from ..figures import Figures
+from ..evaluation.analysis import regulation_pct
+from ..evaluation.figures import Figures
 from ..units import format_si
-from .cautions import CAUTION_LINES
 
 
 def _pct(x: float | None) -> str:

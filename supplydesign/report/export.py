@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from ..analysis import regulation_pct
-from ..figures import Figures
+from ..evaluation.analysis import regulation_pct
+from ..evaluation.figures import Figures
 
 
 def evaluation_json(full: Figures, idle: Figures | None = None,

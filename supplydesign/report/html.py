@@ -11,10 +11,10 @@ import html
 import re
 from collections.abc import Mapping
 
-from ..figures import Figures
+from ..cautions import CAUTION_LINES
+from ..evaluation.figures import Figures
 from ..units import format_si
 from .bom import bom_lines, bom_totals, rail_part_values
-from .cautions import CAUTION_LINES
 from .pareto_plot import pick_marks
 from .pictures import design_key, number_width, picked
 from .plots import PICK_STYLE, rail_colour

@@ -4,7 +4,7 @@ The solving happens here (:func:`waveform_figures` re-evaluates designs with
 their waveforms kept); the drawing in :mod:`supplydesign.report.plots`.
 
 Switch-on and output impedance come from the worst-case analysis
-(:func:`supplydesign.worstcase.analyse`); the pictures take them as plain arrays
+(:func:`supplydesign.evaluation.worstcase.analyse`); the pictures take them as plain arrays
 (:class:`SwitchOnTrace`, :class:`ImpedanceCurves`), one of each per design, made
 by :func:`switch_on_traces` and :func:`impedance_curves`. The analysis keeps no
 time series of its switch-on run, so :func:`switch_on_traces` runs the same
@@ -22,7 +22,7 @@ import numpy as np
 
 from ..design import Design
 from ..errors import UserError
-from ..figures import Figures
+from ..evaluation.figures import Figures
 
 PLOT_FORMATS = ("png", "svg")
 
@@ -70,9 +70,9 @@ def switch_on_traces(wc) -> list[SwitchOnTrace]:
     crest) of every design of a worst-case analysis ``wc``, each run stopping where the
     analysis's did. Per design: capacitor voltage of each rail (the rail voltage where
     it has no capacitor) and the highest current in one anode or diode."""
-    from ..cases import HIGH_MAINS_NO_LOAD, case_circuit
     from ..circuit.netlist import group_by_topology
     from ..circuit.transient import SURGE_FROM_S, switch_on
+    from ..evaluation.cases import HIGH_MAINS_NO_LOAD, case_circuit
 
     designs = wc.designs
     sw = wc.switch_on
@@ -119,7 +119,7 @@ def worst_case_pictures(designs: Sequence[Design], steps: int = 512, wc=None
     """Switch-on traces and impedance curves of ``designs`` (running the worst-case
     analysis unless ``wc``, its result for these designs, is given)."""
     if wc is None:
-        from ..worstcase import analyse
+        from ..evaluation.worstcase import analyse
 
         wc = analyse(designs, steps=steps, record=True)
     return switch_on_traces(wc), impedance_curves(wc)
@@ -127,7 +127,7 @@ def worst_case_pictures(designs: Sequence[Design], steps: int = 512, wc=None
 
 def waveform_figures(designs: Sequence[Design], steps: int = 512) -> list[Figures]:
     """Nominal figures of ``designs`` with one period of waveforms kept (a solve)."""
-    from ..analysis import evaluate
+    from ..evaluation.analysis import evaluate
 
     return evaluate(designs, steps=steps, waveforms=True)
 

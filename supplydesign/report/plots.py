@@ -103,7 +103,7 @@ def tile_period(t_s: np.ndarray, y: np.ndarray, cycles: int = 2) -> tuple[np.nda
 def ripple_of(v: np.ndarray) -> np.ndarray:
     """A converged period of a rail voltage [V] as ripple about its mean: the residual
     drift of the shooting (last minus first sample) is spread out linearly first, as
-    the figures do (:func:`supplydesign.analysis.detrended`)."""
+    the figures do (:func:`supplydesign.evaluation.analysis.detrended`)."""
     v = np.asarray(v, dtype=float)
     ramp = np.linspace(0.0, 1.0, len(v))
     flat = v - ramp * (v[-1] - v[0])
@@ -141,7 +141,7 @@ def ripple_figure(waveforms, *, hum_allowed_v: Mapping[str, float | None] | None
 
     Parameters
     ----------
-    waveforms : supplydesign.figures.Waveforms
+    waveforms : supplydesign.evaluation.figures.Waveforms
         One steady-state period (``t_s`` [s], ``rail_v`` [V] per rail).
     hum_allowed_v : mapping of rail name to float, optional
         The brief's allowed ripple per rail, rms [V], shown beside the figure.
@@ -181,7 +181,7 @@ def rectifier_figure(waveforms, *, peak_rating_a: float | None = None, element: 
 
     Parameters
     ----------
-    waveforms : supplydesign.figures.Waveforms
+    waveforms : supplydesign.evaluation.figures.Waveforms
         One steady-state period (``anode_a`` [A], one array per anode or diode).
     peak_rating_a : float, optional
         The rectifier's peak current rating per anode [A]: a dashed line when it

@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
+from ..cautions import CAUTION_LINES
 from ..units import format_si
 from .bom import rail_part_values
-from .cautions import CAUTION_LINES
 
 PICK_LABELS = {"cheapest": "cheapest", "quietest": "quietest", "stiffest": "stiffest",
                "balanced": "balanced"}

@@ -7,9 +7,9 @@ import math
 import numpy as np
 
 from ..circuit import formulas
-from ..stress import PEAK_SOURCES, capacitor_stress, checks, damping
+from ..evaluation.stress import PEAK_SOURCES, capacitor_stress, checks, damping
+from ..evaluation.worstcase import WorstCases, signal_dependent
 from ..units import format_si
-from ..worstcase import WorstCases, signal_dependent
 from .console import _ratio_cell
 
 #: frequencies at which the output impedance is shown [Hz]

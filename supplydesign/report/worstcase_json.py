@@ -22,11 +22,11 @@ import math
 
 import numpy as np
 
-from ..cases import WORST_CASES, mains_factors
+from ..cautions import CAUTION_TEXT
 from ..circuit import formulas
-from ..stress import PEAK_SOURCES, capacitor_stress, checks, damping
-from ..worstcase import WorstCases, signal_dependent
-from .cautions import CAUTION_TEXT
+from ..evaluation.cases import WORST_CASES, mains_factors
+from ..evaluation.stress import PEAK_SOURCES, capacitor_stress, checks, damping
+from ..evaluation.worstcase import WorstCases, signal_dependent
 
 #: points per decade of the output impedance curve written to JSON
 CURVE_PER_DECADE = 5

@@ -13,9 +13,9 @@ import json
 import math
 import os
 
+from ..cautions import CAUTION_LINES
 from ..errors import UserError
 from ..io.tomlwrite import dump_design
-from ..report.cautions import CAUTION_LINES
 from ..units import format_si
 from ..writefiles import write_text_atomic
 from .run import Candidate, SynthResult

@@ -13,7 +13,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..analysis import FigureArrays, Solved, figure_arrays, stack_rows
 from ..circuit.netlist import (
     NOMINAL,
     Circuit,
@@ -24,6 +23,7 @@ from ..circuit.netlist import (
 )
 from ..circuit.statespace import build_state_space
 from ..circuit.steady import periodic_steady_state
+from ..evaluation.analysis import FigureArrays, Solved, figure_arrays, stack_rows
 from .score import OBJECTIVES, Scores, choose_capacitors, score
 from .space import KIND_WIRE, RESISTOR_AS_CHOKE_H, Decoded, SearchSpace, decode, template
 

@@ -22,9 +22,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..analysis import FigureArrays, evaluate_arrays
 from ..circuit.netlist import OperatingCase
 from ..design import Design
+from ..evaluation.analysis import FigureArrays, evaluate_arrays
 from .score import OBJECTIVES, Scores, choose_capacitors, score
 from .space import KIND_CHOKE, KIND_RESISTOR, SearchSpace, build_space, decode, to_design
 
@@ -307,8 +307,8 @@ def _worst_case_check(cands: list[Candidate], steps: int) -> list[Candidate]:
     chokes = [c for c in cands if c.design.rails[0].link.kind == "choke"]
     if not chokes:
         return cands
-    from ..stress import constraints
-    from ..worstcase import analyse
+    from ..evaluation.stress import constraints
+    from ..evaluation.worstcase import analyse
 
     cons = constraints(analyse([c.design for c in chokes], steps=steps))
     for k, c in enumerate(chokes):

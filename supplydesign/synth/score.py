@@ -99,7 +99,7 @@ def _ratio(x: np.ndarray, limit) -> np.ndarray:
 
 def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> Scores:
     """Objectives and constraints of a population from its full-load and idle figures
-    (:class:`~supplydesign.analysis.FigureArrays` or anything with the same arrays)."""
+    (:class:`~supplydesign.evaluation.analysis.FigureArrays` or anything with the same arrays)."""
     brief = space.brief
     n, R = dec.kind.shape
     cols: list[np.ndarray] = []

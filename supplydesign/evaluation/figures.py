@@ -1,6 +1,6 @@
 """The figures of one design in one operating case: plain dataclasses of SI floats.
 
-Produced by :mod:`supplydesign.analysis`, consumed by reports, exports and the
+Produced by :mod:`supplydesign.evaluation.analysis`, consumed by reports, exports and the
 synthesis. Names end in their unit (``_v``, ``_a``, ``_w``, ``_s``).
 """
 

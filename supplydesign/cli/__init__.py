@@ -9,7 +9,8 @@ from __future__ import annotations
 import argparse
 import sys
 
-from . import cli_export, cli_parts
+from . import export as cli_export
+from . import parts as cli_parts
 
 EXIT_USER = 2
 
@@ -67,13 +68,13 @@ def _cmd_synth(args, brief_path: str | None = None) -> int:
     from rich.console import Console
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
-    from .errors import UserError
-    from .io.designfile import load_design, read_catalog_setting
-    from .parts import load_catalog
-    from .report.synth_console import render_synthesis
-    from .synth.files import write_run
-    from .synth.run import SynthOptions, synthesize
-    from .synth.score import OBJECTIVES
+    from ..errors import UserError
+    from ..io.designfile import load_design, read_catalog_setting
+    from ..parts import load_catalog
+    from ..report.synth_console import render_synthesis
+    from ..synth.files import write_run
+    from ..synth.run import SynthOptions, synthesize
+    from ..synth.score import OBJECTIVES
 
     path = brief_path or args.brief
     objectives = tuple(o.strip() for o in args.objectives.split(",") if o.strip())
@@ -129,15 +130,15 @@ def _cmd_demo(args) -> int:
 def _cmd_evaluate(args) -> int:
     import json
 
-    from .analysis import IDLE, evaluate
-    from .errors import UserError
-    from .io.designfile import load_design
-    from .report.export import evaluation_json
-    from .writefiles import write_text_atomic
+    from ..errors import UserError
+    from ..evaluation.analysis import IDLE, evaluate
+    from ..io.designfile import load_design
+    from ..report.export import evaluation_json
+    from ..writefiles import write_text_atomic
 
     catalog = None
     if args.catalog:
-        from .parts import load_catalog
+        from ..parts import load_catalog
 
         catalog = load_catalog(extra=args.catalog)
     designs = []
@@ -150,7 +151,7 @@ def _cmd_evaluate(args) -> int:
         full = evaluate(designs, steps=args.steps)
         idle = evaluate(designs, IDLE, steps=args.steps)
     else:
-        from .worstcase import analyse
+        from ..evaluation.worstcase import analyse
 
         wc = analyse(designs, steps=args.steps)
         full, idle = wc.cases["nominal"].figures(), wc.cases["idle"].figures()
@@ -159,22 +160,22 @@ def _cmd_evaluate(args) -> int:
 
         from rich.console import Console
 
-        from .report.console import render_evaluation
-        from .report.worstcase_console import render_worst_cases
+        from ..report.console import render_evaluation
+        from ..report.worstcase_console import render_worst_cases
 
         console = Console()
         for b, (d, f, i) in enumerate(zip(designs, full, idle, strict=True)):
             worst = None if wc is None else partial(render_worst_cases, wc=wc, b=b)
             render_evaluation(console, d, f, i, worst=worst)
     if args.json:
-        from .report.worstcase_json import worst_case_json
+        from ..report.worstcase_json import worst_case_json
 
         objs = [evaluation_json(f, i, None if wc is None else worst_case_json(wc, b))
                 for b, (f, i) in enumerate(zip(full, idle, strict=True))]
         data = objs[0] if len(objs) == 1 else objs
         write_text_atomic(args.json, json.dumps(data, indent=2) + "\n", force=args.force)
     if args.spice:
-        from .circuit.spice import write_spice
+        from ..circuit.spice import write_spice
 
         write_spice(designs[0], args.spice, force=args.force)
     if args.plots:
@@ -189,7 +190,7 @@ COMMANDS.update(cli_export.COMMANDS)
 
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
-    from .errors import UserError
+    from ..errors import UserError
 
     try:
         return COMMANDS[args.command](args)

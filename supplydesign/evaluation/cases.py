@@ -12,7 +12,7 @@ leak), and the default starting guess of a choke-input filter (the mean of the
 rectified sine) is far from it (the crest). The no-load case therefore starts
 Newton from every capacitor at the crest. A choke input without load may still
 not converge (the choke rings with the stray capacitances between the brief
-conduction instants); :mod:`supplydesign.worstcase` then bounds its figures.
+conduction instants); :mod:`supplydesign.evaluation.worstcase` then bounds its figures.
 """
 
 from __future__ import annotations
@@ -22,11 +22,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..circuit.netlist import Circuit, OperatingCase, build, solving_groups
+from ..circuit.statespace import build_state_space
+from ..circuit.steady import STEPS_PER_PERIOD, initial_guess, periodic_steady_state
+from ..design import Design
 from .analysis import FigureArrays, Solved, figure_arrays, figures_of
-from .circuit.netlist import Circuit, OperatingCase, build, solving_groups
-from .circuit.statespace import build_state_space
-from .circuit.steady import STEPS_PER_PERIOD, initial_guess, periodic_steady_state
-from .design import Design
 from .figures import Figures
 
 
@@ -141,7 +141,7 @@ class CaseResult:
     batches: list[Batch]
 
     def figures(self) -> list[Figures]:
-        """The figures of every design as :class:`~supplydesign.figures.Figures`."""
+        """The figures of every design as :class:`~supplydesign.evaluation.figures.Figures`."""
         out: list = [None] * len(self.arrays.converged)
         for b in self.batches:
             every = figures_of(b.solved, OperatingCase(self.case.name))

@@ -45,13 +45,13 @@ def add_synth_options(sp) -> None:
 
 
 def cmd_bom(args) -> int:
-    from .io.designfile import load_design
-    from .report.bom import bom_csv
-    from .report.runfiles import unique_labels
+    from ..io.designfile import load_design
+    from ..report.bom import bom_csv
+    from ..report.runfiles import unique_labels
 
     catalog = None
     if args.catalog:
-        from .parts import load_catalog
+        from ..parts import load_catalog
 
         catalog = load_catalog(extra=args.catalog)
     designs = [load_design(path, catalog=catalog) for path in args.designs]
@@ -60,7 +60,7 @@ def cmd_bom(args) -> int:
         labels = unique_labels(args.designs)
     text = bom_csv(list(zip(labels, designs, strict=True)))
     if args.out:
-        from .writefiles import write_text_atomic
+        from ..writefiles import write_text_atomic
 
         write_text_atomic(args.out, text, force=args.force)
     else:
@@ -71,8 +71,8 @@ def cmd_bom(args) -> int:
 def evaluate_plots(args, designs, wc=None) -> list[str]:
     """The pictures of ``evaluate --plots``: ripple and rectifier current of every design,
     and switch-on and output impedance where the worst cases ``wc`` were analysed."""
-    from .report.pictures import worst_case_pictures
-    from .report.runfiles import unique_labels, write_design_plots
+    from ..report.pictures import worst_case_pictures
+    from ..report.runfiles import unique_labels, write_design_plots
 
     switch_on = impedance = None
     if wc is not None:
@@ -85,8 +85,8 @@ def evaluate_plots(args, designs, wc=None) -> list[str]:
 def synth_outputs(args, result, console=None) -> list[str]:
     """The files of a synthesis beyond the design files: ``bom.csv`` and ``report.html``
     in ``--out`` and the pictures in ``--plots``."""
-    from .report.pictures import picked, worst_case_pictures
-    from .report.runfiles import write_synth_outputs
+    from ..report.pictures import picked, worst_case_pictures
+    from ..report.runfiles import write_synth_outputs
 
     switch_on = impedance = None
     report = bool(args.out) and not args.no_report

@@ -2,7 +2,7 @@
 
 ``evaluate(designs, case)`` groups the designs by topology, solves each group's
 periodic steady state as one batch, and turns the sampled period into
-:class:`~supplydesign.figures.Figures`.
+:class:`~supplydesign.evaluation.figures.Figures`.
 """
 
 from __future__ import annotations
@@ -12,11 +12,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .circuit import formulas
-from .circuit.netlist import GROUND, NOMINAL, Circuit, OperatingCase, build, solving_groups
-from .circuit.statespace import build_state_space
-from .circuit.steady import STEPS_PER_PERIOD, SteadyState, periodic_steady_state
-from .design import Design
+from ..circuit import formulas
+from ..circuit.netlist import GROUND, NOMINAL, Circuit, OperatingCase, build, solving_groups
+from ..circuit.statespace import build_state_space
+from ..circuit.steady import STEPS_PER_PERIOD, SteadyState, periodic_steady_state
+from ..design import Design
 from .figures import Figures, RailFigures, RectifierFigures, TransformerFigures, Waveforms
 
 IDLE = OperatingCase("idle", 1.0, "idle")

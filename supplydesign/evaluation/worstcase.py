@@ -1,7 +1,7 @@
 """Worst cases of whole batches of designs: mains limits, switch-on, resonance, discharge.
 
 :func:`analyse` runs, for designs of any topologies, the operating cases of
-:mod:`supplydesign.cases`, the switch-on transient of
+:mod:`supplydesign.evaluation.cases`, the switch-on transient of
 :mod:`supplydesign.circuit.transient` (high mains, valves cold, at the crest),
 the small-signal output impedance and the discharge after switch-off of
 :mod:`supplydesign.circuit.smallsignal`, and the closed-form checks of the choke
@@ -26,6 +26,13 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from ..circuit import formulas
+from ..circuit.netlist import group_by_topology
+from ..circuit.smallsignal import IMPEDANCE_HZ, discharge_times, output_impedance
+from ..circuit.spice import settle_time_estimate
+from ..circuit.steady import STEPS_PER_PERIOD
+from ..circuit.transient import phase_circuits, switch_on
+from ..design import Design
 from .cases import (
     HIGH_MAINS_IDLE,
     HIGH_MAINS_NO_LOAD,
@@ -39,13 +46,6 @@ from .cases import (
     solve_case,
     solve_cases,
 )
-from .circuit import formulas
-from .circuit.netlist import group_by_topology
-from .circuit.smallsignal import IMPEDANCE_HZ, discharge_times, output_impedance
-from .circuit.spice import settle_time_estimate
-from .circuit.steady import STEPS_PER_PERIOD
-from .circuit.transient import phase_circuits, switch_on
-from .design import Design
 
 #: longest switch-on run [s] after the last warm-up
 MAX_SWITCH_ON_S = 30.0
@@ -266,7 +266,7 @@ def _discharge(designs, cold: CaseResult):
 def _bleeder_suggestion(designs, v0, times, starts, nominal: CaseResult):
     """A reservoir bleeder where a design has none or discharges too slowly: the
     E12 value below R = t / (C_total ln(V0 / 60 V)), and the discharge times with it."""
-    from .parts.eseries import next_down
+    from ..parts.eseries import next_down
 
     B = len(designs)
     out = {k: np.full(B, np.nan) for k in ("ohm", "power_w", "nominal_power_w", "worst_s")}

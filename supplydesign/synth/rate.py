@@ -18,9 +18,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
 
 from ..design import Capacitor, Design, Link, Rail
-from ..figures import Figures
-from ..units import format_si
-from .rating import (
+from ..evaluation.figures import Figures
+from ..parts.rating import (
     MODEL_SOURCE,
     RATING_HZ,
     RULES,
@@ -33,6 +32,7 @@ from .rating import (
     ripple_fundamental_hz,
     row,
 )
+from ..units import format_si
 
 HIGH_MAINS_NO_LOAD = "high_mains_no_load"
 #: operating case name -> words used in the reasons
@@ -301,7 +301,7 @@ def rate_evaluated(design: Design, pool: Pool, rules: RatingRules = RULES, *,
     RuntimeError
         When the choice has not settled after ``passes`` evaluations.
     """
-    from ..analysis import evaluate
+    from ..evaluation.analysis import evaluate
 
     current, seen = design, []
     for _ in range(passes):

@@ -41,8 +41,8 @@ def add_parsers(sub) -> None:
 
 
 def _family_name(text: str | None) -> str | None:
-    from .errors import UserError
-    from .parts.schema import FAMILIES, family
+    from ..errors import UserError
+    from ..parts.schema import FAMILIES, family
 
     if text is None:
         return None
@@ -54,8 +54,8 @@ def _family_name(text: str | None) -> str | None:
 
 
 def cmd_parts(args) -> int:
-    from .parts import describe_catalog, load_catalog
-    from .parts.query import check_user_catalog, with_value
+    from ..parts import describe_catalog, load_catalog
+    from ..parts.query import check_user_catalog, with_value
 
     if args.check:
         print(check_user_catalog(args.check))
@@ -65,7 +65,7 @@ def cmd_parts(args) -> int:
     fam = _family_name(args.family)
     if args.kind is not None:
         if fam not in (None, "rectifier"):
-            from .errors import UserError
+            from ..errors import UserError
 
             raise UserError("applies to rectifiers only; drop --kind or use --family "
                             "rectifiers", key="--kind")
@@ -126,7 +126,7 @@ def _tables(listing, width: int) -> list:
 
 
 def _rate_header(source: str, margin: float) -> str:
-    from .report.cautions import CAUTION_LINES
+    from ..cautions import CAUTION_LINES
 
     return "\n".join((
         f"Ratings chosen by `supplydesign rate` from {source}: the cheapest adequate parts,",
@@ -139,13 +139,13 @@ def _rate_header(source: str, margin: float) -> str:
 def cmd_rate(args) -> int:
     from dataclasses import replace
 
-    from .errors import UserError
-    from .io.designfile import load_design, read_catalog_setting
-    from .io.tomlwrite import save_design
-    from .parts import load_catalog
-    from .parts.ratedesign import rate_evaluated
-    from .parts.rating import RatingRules, candidate_pool
-    from .units import parse_quantity
+    from ..errors import UserError
+    from ..io.designfile import load_design, read_catalog_setting
+    from ..io.tomlwrite import save_design
+    from ..parts import load_catalog
+    from ..parts.rating import RatingRules, candidate_pool
+    from ..synth.rate import rate_evaluated
+    from ..units import parse_quantity
 
     margin = parse_quantity(args.margin, "fraction", key="--margin")
     if not 0 <= margin < 1:

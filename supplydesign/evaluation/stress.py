@@ -1,6 +1,6 @@
 """Part stresses over all worst cases, rating checks and the warnings of a design.
 
-Reads a :class:`~supplydesign.worstcase.WorstCases` and compares every stress
+Reads a :class:`~supplydesign.evaluation.worstcase.WorstCases` and compares every stress
 with its rating: capacitor voltage over all steady cases and the switch-on run,
 rectifier surge and peak current, rails out of tolerance at low mains, LC
 sections that ring, choke inputs below their critical inductance, and slow
@@ -17,7 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .circuit import formulas
+from ..circuit import formulas
 from .worstcase import WorstCases, signal_dependent
 
 #: cases whose capacitor peaks are compared with the rating, with words for reports
