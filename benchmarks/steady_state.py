@@ -21,7 +21,8 @@ sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from designs import four_rail_batch  # noqa: E402
 
 from supplydesign.circuit.netlist import build  # noqa: E402
-from supplydesign.circuit.spice import measure_steady, run_ngspice, settle_time_estimate  # noqa: E402
+from supplydesign.circuit.ngspice import measure_steady, run_ngspice  # noqa: E402
+from supplydesign.circuit.transient import settle_time_estimate  # noqa: E402
 from supplydesign.evaluation.analysis import evaluate  # noqa: E402
 
 

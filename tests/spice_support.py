@@ -23,7 +23,7 @@ from pathlib import Path
 
 import pytest
 
-from supplydesign.circuit import spice
+from supplydesign.circuit import ngspice, spice, transient
 from supplydesign.circuit.netlist import NOMINAL, Circuit, build
 from supplydesign.design import Design
 from supplydesign.io.designfile import load_design
@@ -69,7 +69,7 @@ def load_circuit(name: str) -> tuple[Design, Circuit]:
 
 @lru_cache(maxsize=1)
 def _ngspice_version() -> str:
-    out = subprocess.run([spice.ngspice_path(), "--version"], capture_output=True, text=True,
+    out = subprocess.run([ngspice.ngspice_path(), "--version"], capture_output=True, text=True,
                          check=False, timeout=30)
     lines = [ln for ln in (out.stdout + out.stderr).splitlines() if "ngspice-" in ln]
     return lines[0].strip() if lines else "unknown"
@@ -77,10 +77,11 @@ def _ngspice_version() -> str:
 
 @lru_cache(maxsize=1)
 def _code_hash() -> str:
-    return hashlib.sha256(Path(spice.__file__).read_bytes()).hexdigest()[:16]
+    code = b"".join(Path(m.__file__).read_bytes() for m in (spice, ngspice))
+    return hashlib.sha256(code).hexdigest()[:16]
 
 
-#: circuits that settle more slowly than spice.settle_time_estimate allows [s of circuit
+#: circuits that settle more slowly than transient.settle_time_estimate allows [s of circuit
 #: time]: a choke input below its critical inductance is damped only while its rectifier
 #: conducts, and at 3.5 s its ringing still moves the peak current by 1.2e-3 (8 s: 4e-9);
 #: a small reservoir ringing with its choke (half-wave) at 3 s is 17 % off on the last
@@ -91,8 +92,9 @@ RUN_AT_LEAST_S = {"si_fw_light_choke": 8.0, "si_hw_small_reservoir_choke": 10.0}
 def _plan(name: str) -> dict:
     """Run length, kept span and the cache key of one reference run."""
     design, circuit = load_circuit(name)
-    t_stop = max(spice.settle_time_estimate(circuit), RUN_AT_LEAST_S.get(name, 0.0))
-    keep = spice.SETTLE_SHIFT_S + spice.WINDOW_PERIODS / design.mains.frequency_hz + KEEP_MARGIN_S
+    t_stop = max(transient.settle_time_estimate(circuit), RUN_AT_LEAST_S.get(name, 0.0))
+    keep = (ngspice.SETTLE_SHIFT_S + ngspice.WINDOW_PERIODS / design.mains.frequency_hz
+            + KEEP_MARGIN_S)
     t_save = max(t_stop - keep, 0.0)
     text = spice.netlist(circuit, t_stop_s=t_stop, t_step_s=REFERENCE_STEP_S,
                          reltol=REFERENCE_RELTOL, t_save_s=t_save)
@@ -102,10 +104,10 @@ def _plan(name: str) -> dict:
 
 
 def _run(plan: dict) -> dict:
-    result = spice.run_ngspice(plan["circuit"], t_stop_s=plan["t_stop_s"],
-                               t_step_s=REFERENCE_STEP_S, reltol=REFERENCE_RELTOL,
-                               timeout_s=120.0, t_save_s=plan["t_save_s"])
-    figures = spice.measure_steady(result, plan["frequency_hz"])
+    result = ngspice.run_ngspice(plan["circuit"], t_stop_s=plan["t_stop_s"],
+                                 t_step_s=REFERENCE_STEP_S, reltol=REFERENCE_RELTOL,
+                                 timeout_s=120.0, t_save_s=plan["t_save_s"])
+    figures = ngspice.measure_steady(result, plan["frequency_hz"])
     figures["runtime_s"] = result.runtime_s
     figures["t_stop_s"] = plan["t_stop_s"]
     figures["key"] = plan["key"]

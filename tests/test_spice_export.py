@@ -21,7 +21,7 @@ from spice_support import (
     spice_references,
 )
 
-from supplydesign.circuit import spice
+from supplydesign.circuit import ngspice, spice, transient
 from supplydesign.circuit.netlist import (
     GROUND,
     Circuit,
@@ -218,7 +218,7 @@ def test_write_spice_defaults_and_refuses_to_overwrite(tmp_path):
     design, circuit = load_circuit("valve_fw_four_section")
     path = spice.write_spice(design, tmp_path / "four.cir")
     tran = next(ln for ln in path.read_text().splitlines() if ln.startswith(".tran")).split()
-    assert float(tran[2]) == spice.settle_time_estimate(circuit) >= 5.0
+    assert float(tran[2]) == transient.settle_time_estimate(circuit) >= 5.0
     assert float(tran[1]) == spice.DEFAULT_STEP_S
     with pytest.raises(UserError, match="exists"):
         spice.write_spice(circuit, path)
@@ -228,19 +228,19 @@ def test_write_spice_defaults_and_refuses_to_overwrite(tmp_path):
 
 def test_settle_estimate_grows_with_the_slowest_section():
     design, circuit = load_circuit("valve_fw_crc")
-    base = spice.settle_time_estimate(circuit)
+    base = transient.settle_time_estimate(circuit)
     rails = list(design.rails)
     # ten times the last RC product: 10 kohm * 220 uF = 2.2 s
     rails[2] = replace(rails[2], capacitor=replace(rails[2].capacitor, capacitance_f=220e-6))
-    slow = spice.settle_time_estimate(build([design.with_rails(rails)]))
+    slow = transient.settle_time_estimate(build([design.with_rails(rails)]))
     assert slow >= base + 8 * (2.2 - 0.22) - 0.5
 
 
 # --------------------------------------------------------------------------- measuring
 
 
-def synthetic_result(t, rail, anode, winding) -> spice.SpiceResult:
-    return spice.SpiceResult(t_s=t, rail_v={"out": rail}, anode_a={"d1": anode},
+def synthetic_result(t, rail, anode, winding) -> ngspice.SpiceResult:
+    return ngspice.SpiceResult(t_s=t, rail_v={"out": rail}, anode_a={"d1": anode},
                              winding_a={"w1": winding}, netlist="", runtime_s=0.0)
 
 
@@ -252,7 +252,7 @@ def test_measure_steady_on_known_waveforms():
     rail = 300.0 + 5.0 * np.sin(2 * w * t)
     anode = 0.4 * np.maximum(np.sin(w * t), 0.0)
     winding = 0.4 * np.sin(w * t)
-    m = spice.measure_steady(synthetic_result(t, rail, anode, winding), 50.0)
+    m = ngspice.measure_steady(synthetic_result(t, rail, anode, winding), 50.0)
     rail_fig = m["rails"][0]
     # mean and rms of a sine over whole periods; a half-wave rectified sine has
     # mean Ipk/pi and rms Ipk/2 [derived: integrals of sin]. The tolerances are the
@@ -273,7 +273,7 @@ def test_measure_steady_on_known_waveforms():
 def test_measure_steady_reports_an_unsettled_run():
     t = np.linspace(0.0, 2.0, 200_001)
     rail = 400.0 * (1.0 - 0.1 * np.exp(-t / 0.4))
-    m = spice.measure_steady(synthetic_result(t, rail, 0 * t, 0 * t), 60.0)
+    m = ngspice.measure_steady(synthetic_result(t, rail, 0 * t, 0 * t), 60.0)
     # means of the exponential over the two windows [derived]
     def window_mean(t0, t1):
         return 400.0 - 40.0 * 0.4 * (np.exp(-t0 / 0.4) - np.exp(-t1 / 0.4)) / (t1 - t0)
@@ -285,7 +285,7 @@ def test_measure_steady_reports_an_unsettled_run():
 def test_measure_steady_needs_both_windows():
     t = np.linspace(0.0, 0.6, 1000)
     with pytest.raises(ValueError, match="settle check"):
-        spice.measure_steady(synthetic_result(t, t, t, t), 50.0)
+        ngspice.measure_steady(synthetic_result(t, t, t, t), 50.0)
 
 
 def test_read_raw_round_trip(tmp_path):
@@ -295,19 +295,19 @@ def test_read_raw_round_trip(tmp_path):
               "\t1\tv(rect)\tvoltage\n\t2\ti(v_d1)\tcurrent\nBinary:\n")
     path = tmp_path / "x.raw"
     path.write_bytes(header.encode() + table.astype("<f8").tobytes())
-    got = spice.read_raw(path)
+    got = ngspice.read_raw(path)
     assert list(got) == ["time", "v(rect)", "i(v_d1)"]
     np.testing.assert_array_equal(got["i(v_d1)"], table[:, 2])
     path.write_bytes(b"Title: x\nValues:\n")
-    with pytest.raises(spice.NgspiceError):
-        spice.read_raw(path)
+    with pytest.raises(ngspice.NgspiceError):
+        ngspice.read_raw(path)
 
 
 def test_missing_ngspice_is_a_clear_error(monkeypatch):
     _, circuit = load_circuit("si_fw_crc")
-    monkeypatch.setattr(spice.shutil, "which", lambda name: None)
-    with pytest.raises(spice.NgspiceNotFound, match="ngspice is not installed"):
-        spice.run_ngspice(circuit, t_stop_s=1.0)
+    monkeypatch.setattr(ngspice.shutil, "which", lambda name: None)
+    with pytest.raises(ngspice.NgspiceNotFound, match="ngspice is not installed"):
+        ngspice.run_ngspice(circuit, t_stop_s=1.0)
 
 
 # --------------------------------------------------------------------------- ngspice
@@ -397,7 +397,7 @@ def test_exported_file_runs_as_written(tmp_path):
                           text=True, timeout=120, cwd=tmp_path, check=False)
     assert proc.returncode == 0, proc.stdout[-2000:] + proc.stderr[-2000:]
     assert "error" not in (proc.stdout + proc.stderr).lower()
-    vectors = spice.read_raw(raw)
+    vectors = ngspice.read_raw(raw)
     # without a .save line ngspice keeps every node, the rail node among them
     assert vectors["time"][-1] == pytest.approx(0.1)
     assert "v(n1)" in vectors and "i(v_d1)" in vectors
@@ -407,5 +407,5 @@ def test_exported_file_runs_as_written(tmp_path):
 def test_ngspice_timeout_is_reported():
     ngspice_or_skip()
     _, circuit = load_circuit("valve_fw_four_section")
-    with pytest.raises(spice.NgspiceError, match="did not finish"):
-        spice.run_ngspice(circuit, t_stop_s=30.0, timeout_s=0.2)
+    with pytest.raises(ngspice.NgspiceError, match="did not finish"):
+        ngspice.run_ngspice(circuit, t_stop_s=30.0, timeout_s=0.2)

@@ -13,7 +13,7 @@ definition on both sides), within the acceptance's 3 %. Observed agreement:
 0.4 % or better on both (the worst, a 4 mH leakage, 0.35 % on the surge).
 
 The ngspice runs are kept in the pytest cache, keyed by netlist, ngspice version
-and the source of spice.py, as in spice_support.
+and the source of spice.py and ngspice.py, as in spice_support.
 """
 
 from __future__ import annotations
@@ -26,7 +26,7 @@ import pytest
 from numpy.testing import assert_allclose
 from spice_support import _code_hash, _ngspice_version, load_circuit, ngspice_or_skip
 
-from supplydesign.circuit import spice
+from supplydesign.circuit import ngspice, spice
 from supplydesign.circuit.netlist import THERMAL_VOLTAGE_27C, build
 from supplydesign.circuit.transient import SURGE_FROM_S, phase_circuits, switch_on
 from supplydesign.design import Capacitor, Design, Mains, Rail, Rectifier, Transformer
@@ -55,7 +55,7 @@ def _ngspice_figures(config, name: str) -> dict:
     cached = config.cache.get(f"supplydesign/switch_on/{name}", None)
     if cached is not None and cached.get("key") == key:
         return cached
-    res = spice.run_ngspice(circuit, t_stop_s=WINDOW_S, t_step_s=STEP_S, reltol=RELTOL,
+    res = ngspice.run_ngspice(circuit, t_stop_s=WINDOW_S, t_step_s=STEP_S, reltol=RELTOL,
                             start_phase_deg=90.0)
     t = res.t_s
     current = np.max(np.stack(list(res.anode_a.values())), axis=0)

@@ -59,6 +59,7 @@ References
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
@@ -375,3 +376,58 @@ def phase_circuits(cold: Circuit, warm: Circuit, warm_at_s: np.ndarray) -> list[
                                              cold.value(e.name, p))
         out.append(Circuit(topo, values, cold.frequency_hz, cold.designs))
     return out
+
+
+def settle_time_estimate(circuit: Circuit, index: int = 0) -> float:
+    """A run length [s] after which a switch-on run should have settled.
+
+    Sums, along each path from the rectifier to a rail, a time constant per
+    section: reservoir ``5 R_s C`` (source resistance over a conduction fraction
+    of about a fifth), resistor ``R C`` and choke ``2 L / (R_dcr + R_s)`` (the
+    envelope decay of an LC section without load damping), where ``C`` is all
+    the capacitance at and beyond that rail and ``R_s`` the winding (and diode)
+    resistance. Returns 8 times the slowest path plus
+    1 s, between 2 s and 60 s, rounded up to half a second. An estimate: check
+    the settle figures of :func:`supplydesign.circuit.ngspice.measure_steady`.
+    """
+    topo = circuit.topology
+
+    def val(name: str, param: str) -> float:
+        return float(circuit.values[name][param][index])
+
+    windings = topo.of_kind("W")
+    r_source = sum(val(w.name, "r") for w in windings) / max(len(windings), 1)
+    for e in topo.elements:
+        if e.role and e.role[0] == "diode_r":
+            r_source += val(e.name, "r")
+            break
+    n = len(topo.rail_nodes)
+    parent = [-1] * n
+    link = {}
+    for e in topo.elements:
+        if e.role and e.role[0] == "link":
+            link[e.role[1]] = e
+    for i in range(n):
+        up = link[i].a if i in link else topo.rectifier_node
+        parent[i] = max((j for j in range(i) if topo.rail_nodes[j] == up), default=-1)
+    cap = [0.0] * n
+    for e in topo.elements:
+        if e.kind == "C" and e.role and e.role[0] == "cap":
+            cap[e.role[1]] = val(e.name, "c")
+    below = cap[:]
+    for i in reversed(range(n)):
+        if parent[i] >= 0:
+            below[parent[i]] += below[i]
+    tau = [0.0] * n
+    for i in range(n):
+        e = link.get(i)
+        if e is None:
+            own = 5.0 * r_source * below[i]
+        elif e.kind == "R":
+            own = val(e.name, "r") * below[i]
+            own = 0.0 if math.isinf(own) else own
+        else:
+            own = 2.0 * val(e.name, "l") / max(val(e.name, "r") + r_source, 1.0)
+        tau[i] = own + (tau[parent[i]] if parent[i] >= 0 else 0.0)
+    t = 8.0 * max(tau, default=0.0) + 1.0
+    return min(max(math.ceil(2.0 * t) / 2.0, 2.0), 60.0)

@@ -29,9 +29,8 @@ import numpy as np
 from ..circuit import formulas
 from ..circuit.netlist import group_by_topology
 from ..circuit.smallsignal import IMPEDANCE_HZ, discharge_times, output_impedance
-from ..circuit.spice import settle_time_estimate
 from ..circuit.steady import STEPS_PER_PERIOD
-from ..circuit.transient import phase_circuits, switch_on
+from ..circuit.transient import phase_circuits, settle_time_estimate, switch_on
 from ..design import Design
 from .cases import (
     HIGH_MAINS_IDLE,

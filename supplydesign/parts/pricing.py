@@ -171,3 +171,10 @@ def merge_tables(*tables: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
                                    np.full(len(t["part"]), fill, dtype=float if numeric else object)
                                    for t in tables])
     return out
+
+
+def rectifier_pieces(rect) -> int:
+    """How many catalog pieces a rectifier takes: one valve, or a diode per junction."""
+    if rect.kind == "valve":
+        return 1
+    return {"full-wave": 2, "bridge": 4, "half-wave": 1}[rect.arrangement]

@@ -20,7 +20,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 from ..design import Design, Rail
-from ..synth.score import rectifier_pieces
+from ..parts.pricing import rectifier_pieces
 from ..units import format_si
 
 COLUMNS = ("design", "ref", "rail", "kind", "part", "description", "value", "rating",

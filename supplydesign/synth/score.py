@@ -21,6 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..parts.pricing import rectifier_pieces
 from ..parts.rating import RULES
 from ..parts.rating import choose_capacitors as cheapest_capacitors
 from ..parts.rating import choose_resistors as cheapest_resistors
@@ -62,13 +63,6 @@ def choose_capacitors(space: SearchSpace, dec: Decoded) -> tuple[np.ndarray, np.
         rows[:, i] = np.where(picks.found, picks.index, fallback)
         esr[:, i] = cp["esr_ohm"][rows[:, i]]
     return rows, esr
-
-
-def rectifier_pieces(rect) -> int:
-    """How many catalog pieces a rectifier takes: one valve, or a diode per junction."""
-    if rect.kind == "valve":
-        return 1
-    return {"full-wave": 2, "bridge": 4, "half-wave": 1}[rect.arrangement]
 
 
 @dataclass

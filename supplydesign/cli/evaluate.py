@@ -1,0 +1,84 @@
+"""Command ``supplydesign evaluate``: the figures of complete design files.
+
+Registered by :mod:`supplydesign.cli`; heavy imports stay inside the command.
+"""
+
+from __future__ import annotations
+
+from . import export as cli_export
+
+
+def add_parsers(sub) -> None:
+    """Add the ``evaluate`` subcommand to an argparse subparsers object."""
+    ev = sub.add_parser("evaluate", help="compute the figures of complete design files")
+    ev.add_argument("designs", nargs="+", metavar="DESIGN.toml")
+    ev.add_argument("--json", metavar="OUT.json", help="write the figures as JSON")
+    ev.add_argument("--spice", metavar="OUT.cir",
+                    help="write a SPICE netlist of the (first) design for cross-checking")
+    ev.add_argument("--catalog", metavar="DIR", help="parts catalog directory to add")
+    ev.add_argument("--steps", type=int, default=512,
+                    help="solver steps per mains period, at least (a fast charging loop gets more)")
+    ev.add_argument("--force", action="store_true", help="overwrite existing output files")
+    ev.add_argument("--quiet", action="store_true", help="no console report")
+    ev.add_argument("--nominal-only", action="store_true",
+                    help="skip the worst cases, switch-on and discharge (faster)")
+    cli_export.add_evaluate_options(ev)
+
+
+def cmd_evaluate(args) -> int:
+    import json
+
+    from ..errors import UserError
+    from ..evaluation.analysis import IDLE, evaluate
+    from ..io.designfile import load_design
+    from ..report.export import evaluation_json
+    from ..writefiles import write_text_atomic
+
+    catalog = None
+    if args.catalog:
+        from ..parts import load_catalog
+
+        catalog = load_catalog(extra=args.catalog)
+    designs = []
+    for path in args.designs:
+        designs.append(load_design(path, catalog=catalog))
+    if args.steps < 64:
+        raise UserError("expected at least 64 steps per period", key="--steps")
+    wc = None
+    if args.nominal_only:
+        full = evaluate(designs, steps=args.steps)
+        idle = evaluate(designs, IDLE, steps=args.steps)
+    else:
+        from ..evaluation.worstcase import analyse
+
+        wc = analyse(designs, steps=args.steps)
+        full, idle = wc.cases["nominal"].figures(), wc.cases["idle"].figures()
+    if not args.quiet:
+        from functools import partial
+
+        from rich.console import Console
+
+        from ..report.console import render_evaluation
+        from ..report.worstcase_console import render_worst_cases
+
+        console = Console()
+        for b, (d, f, i) in enumerate(zip(designs, full, idle, strict=True)):
+            worst = None if wc is None else partial(render_worst_cases, wc=wc, b=b)
+            render_evaluation(console, d, f, i, worst=worst)
+    if args.json:
+        from ..report.worstcase_json import worst_case_json
+
+        objs = [evaluation_json(f, i, None if wc is None else worst_case_json(wc, b))
+                for b, (f, i) in enumerate(zip(full, idle, strict=True))]
+        data = objs[0] if len(objs) == 1 else objs
+        write_text_atomic(args.json, json.dumps(data, indent=2) + "\n", force=args.force)
+    if args.spice:
+        from ..circuit.spice import write_spice
+
+        write_spice(designs[0], args.spice, force=args.force)
+    if args.plots:
+        cli_export.evaluate_plots(args, designs, wc)
+    return 1 if not all(f.converged for f in full) else 0
+
+
+COMMANDS = {"evaluate": cmd_evaluate}

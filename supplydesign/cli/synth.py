@@ -1,0 +1,101 @@
+"""Commands ``supplydesign synth`` and ``supplydesign demo``: search a brief.
+
+Registered by :mod:`supplydesign.cli`; heavy imports (rich, pymoo) stay inside
+the commands.
+"""
+
+from __future__ import annotations
+
+from . import export as cli_export
+
+
+def add_parsers(sub) -> None:
+    """Add the ``synth`` and ``demo`` subcommands to an argparse subparsers object."""
+    sy = sub.add_parser("synth", help="search a brief for its Pareto set of buildable designs")
+    sy.add_argument("brief", metavar="BRIEF.toml")
+    _synth_options(sy, out_required=True)
+    de = sub.add_parser("demo", help="run synth on a built-in example brief")
+    _synth_options(de, out_required=False)
+
+
+def _synth_options(sp, out_required: bool) -> None:
+    sp.add_argument("--out", metavar="DIR", required=out_required,
+                    help="folder for pareto.json, pareto.csv and designs/")
+    sp.add_argument("--seed", type=int, default=1, help="random seed (same seed, same result)")
+    sp.add_argument("--workers", type=int, default=1, help="parallel evaluation processes")
+    sp.add_argument("--catalog", metavar="DIR", help="parts catalog directory to add")
+    sp.add_argument("--generations", type=int, default=30, help="search generations")
+    sp.add_argument("--population", type=int, default=48, help="candidates per generation")
+    sp.add_argument("--objectives", default="hum_db,regulation_pct,peak,cost",
+                    help="comma-separated subset of hum_db, regulation_pct, peak, cost")
+    sp.add_argument("--force", action="store_true", help="overwrite existing output files")
+    sp.add_argument("--show", type=int, default=25, help="designs listed in the console table")
+    cli_export.add_synth_options(sp)
+
+
+def cmd_synth(args, brief_path: str | None = None) -> int:
+    import os
+
+    from rich.console import Console
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+    from ..errors import UserError
+    from ..io.designfile import load_design, read_catalog_setting
+    from ..parts import load_catalog
+    from ..report.synth_console import render_synthesis
+    from ..synth.files import write_run
+    from ..synth.run import SynthOptions, synthesize
+    from ..synth.score import OBJECTIVES
+
+    path = brief_path or args.brief
+    objectives = tuple(o.strip() for o in args.objectives.split(",") if o.strip())
+    bad = [o for o in objectives if o not in OBJECTIVES]
+    if bad or not objectives:
+        raise UserError(f"expected objectives among {', '.join(OBJECTIVES)}, got {bad or 'none'}",
+                        key="--objectives")
+    for name, value, low in (("--workers", args.workers, 1), ("--generations", args.generations, 1),
+                             ("--population", args.population, 4)):
+        if value < low:
+            raise UserError(f"expected at least {low}", key=name)
+    if args.out and not args.force and os.path.exists(os.path.join(args.out, "pareto.json")):
+        raise UserError("holds the files of an earlier run; give --force to overwrite them "
+                        "or choose another folder", file=args.out, key="--out")
+    extra = args.catalog or read_catalog_setting(path)
+    catalog = load_catalog(extra=extra) if extra else load_catalog()
+    brief = load_design(path, brief=True, catalog=catalog)
+    options = SynthOptions(seed=args.seed, pop_size=args.population,
+                           generations=args.generations, workers=args.workers,
+                           objectives=objectives)
+    console = Console()
+    with Progress(TextColumn("[bold]searching[/]"), BarColumn(), TextColumn("{task.description}"),
+                  TimeElapsedColumn(), console=console, transient=True) as bar:
+        task = bar.add_task("", total=options.generations)
+
+        def progress(gen, total, best):
+            if best is None:
+                text = "no candidate meets the brief yet"
+            else:
+                text = (f"best: hum margin {-best[0]:.1f} dB, idle→full {best[1]:.1f} %, "
+                        f"cost {best[3]:.2f}")
+            bar.update(task, completed=gen, description=text)
+
+        result = synthesize(brief, catalog, options, progress=progress)
+    if result.extra.get("interrupted"):
+        console.print("[bold yellow]Interrupted: the designs below are the best found so far.[/]")
+    render_synthesis(console, result, limit=args.show)
+    if args.out:
+        written = write_run(result, args.out, force=args.force, seed=args.seed)
+        console.print(f"wrote {len(written)} files to {os.path.abspath(args.out)}")
+    if args.out or args.plots:
+        cli_export.synth_outputs(args, result, console)
+    return 0 if result.designs else 3
+
+
+def cmd_demo(args) -> int:
+    from importlib.resources import files
+
+    brief = files("supplydesign") / "data" / "demo-brief.toml"
+    return cmd_synth(args, brief_path=str(brief))
+
+
+COMMANDS = {"synth": cmd_synth, "demo": cmd_demo}
