@@ -6,6 +6,11 @@ Public API (imported lazily so that ``import supplydesign`` stays light)::
     design = load_design("amp.toml")
     full, = evaluate([design])
 
+    from supplydesign import load_catalog, synthesize, SynthOptions
+    catalog = load_catalog()
+    brief = load_design("brief.toml", brief=True, catalog=catalog)
+    result = synthesize(brief, catalog, SynthOptions(seed=1))   # a SynthResult
+
 HT supplies carry lethal voltages; no figure of this package makes a design safe.
 """
 
@@ -23,6 +28,9 @@ _LAZY = {
     "NOMINAL": ("supplydesign.circuit.netlist", "NOMINAL"),
     "Design": ("supplydesign.design", "Design"),
     "Figures": ("supplydesign.evaluation.figures", "Figures"),
+    "synthesize": ("supplydesign.synth.run", "synthesize"),
+    "SynthOptions": ("supplydesign.synth.run", "SynthOptions"),
+    "SynthResult": ("supplydesign.synth.run", "SynthResult"),
     "UserError": ("supplydesign.errors", "UserError"),
     "load_catalog": ("supplydesign.parts", "load_catalog"),
 }
