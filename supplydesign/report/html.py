@@ -114,16 +114,34 @@ def _peak(c) -> str:
 
 
 def _objective_cells(c, cur: str) -> list[str]:
-    return [f"{-c.objectives['hum_db']:.1f} dB", f"{c.objectives['regulation_pct']:.1f} %",
-            _peak(c), f"{c.cost:.2f} {cur}".strip()]
+    return [f"{c.objectives['hum_db']:+.1f} dB", _margin(c),
+            f"{c.objectives['regulation_pct']:.1f} %", _peak(c), f"{c.cost:.2f} {cur}".strip()]
+
+
+#: headers of :func:`_objective_cells`
+OBJECTIVE_HEADS = ["hum, all rails", "worst-rail margin", "sag idle→full", "peak", "cost"]
+
+
+HUM_NOTE = (
+    '<p class="note">Hum, all rails: every rail\'s rms ripple over its allowance, squared '
+    "and added, in dB: 10·log<sub>10</sub> Σ (ripple<sub>i</sub> / allowed<sub>i</sub>)"
+    "<sup>2</sup>. Quieter filtering of any rail lowers it; 0 dB is one rail exactly at its "
+    "allowance and the others silent, and every rail at its allowance gives 10·log<sub>10"
+    "</sub> N for N rails. Each rail must still meet its own allowance; the worst-rail margin "
+    "is how far the noisiest rail (against its allowance) stays below it.</p>")
+
+
+def _margin(c) -> str:
+    m = c.columns.get("hum_margin_db", float("nan"))
+    return f"{m:.1f} dB" if m == m else "—"
 
 
 def _picks_section(result, cur: str) -> str:
     rows = [[name, f"#{i + 1}", result.designs[i].notation,
              *_objective_cells(result.designs[i], cur), why]
             for name, (i, why) in result.picks.items()]
-    table = _table(["pick", "design", "filter", "hum margin", "sag idle→full", "peak",
-                    "cost", "why"], rows, numeric=(3, 4, 5, 6))
+    table = _table(["pick", "design", "filter", *OBJECTIVE_HEADS, "why"], rows,
+                   numeric=(3, 4, 5, 6, 7))
     return f'<section id="picks"><h2>Picks</h2>{table}</section>'
 
 
@@ -180,8 +198,9 @@ def _design_section(result, i: int, fig: Figures | None, svgs: Mapping[str, str]
     head = (f'<section id="design-{i + 1}"><h2>Design #{i + 1}: {_e(c.notation)} '
             f'{"".join(_tag(n) for n in names)}</h2>'
             f'<p class="meta">file designs/{i + 1:0{width}d}.toml · {_e(_source(c))} · '
-            f"parts cost {c.cost:.2f} {_e(cur)} · hum margin {-c.objectives['hum_db']:.1f} dB "
-            f"on the worst rail · sag idle→full {c.objectives['regulation_pct']:.1f} %</p>")
+            f"parts cost {c.cost:.2f} {_e(cur)} · hum, all rails "
+            f"{c.objectives['hum_db']:+.1f} dB · worst-rail margin {_margin(c)} · "
+            f"sag idle→full {c.objectives['regulation_pct']:.1f} %</p>")
     parts = [head, "<h3>Rails (nominal mains, full signal)</h3>", _rails_table(c, fig)]
     captions = {
         "ripple": "Ripple about the DC at every rail over two mains cycles (nominal mains, "
@@ -213,8 +232,8 @@ def _comparison_section(result, cur: str) -> str:
         '<p class="note">No design with a choke reaches comparable hum; the quietest is '
         "shown.</p>")
     return ('<section id="comparison"><h2>Choke against resistor</h2>'
-            + _table(["", "design", "filter", "hum margin", "sag idle→full", "peak", "cost",
-                      "heat in resistors", "choke mass"], rows, numeric=(3, 4, 5, 6, 7, 8))
+            + _table(["", "design", "filter", *OBJECTIVE_HEADS, "heat in resistors",
+                      "choke mass"], rows, numeric=(3, 4, 5, 6, 7, 8, 9))
             + note + "</section>")
 
 
@@ -227,8 +246,8 @@ def _all_section(result, cur: str) -> str:
     n = len(rails)
     table = _table(["#", "filter", "transformer, rectifier", *[f"{r}: link · C · DC"
                                                                for r in rails],
-                    "hum margin", "sag idle→full", "peak", "cost", "pick"], rows,
-                   numeric=tuple(range(3 + n, 7 + n)), keep=(2,),
+                    *OBJECTIVE_HEADS, "pick"], rows,
+                   numeric=tuple(range(3 + n, 8 + n)), keep=(2,),
                    row_class=lambda k: "pick" if k in marks else "")
     return (f'<section id="all"><h2>Every design of the Pareto set ({len(result.designs)}, '
             f"cheapest first)</h2>{table}</section>")
@@ -279,9 +298,8 @@ def synth_report_html(result, svgs: Mapping[str, str], waves: Mapping[int, Figur
         body += [f"<nav>{nav}</nav>", _picks_section(result, cur),
                  '<section id="front"><h2>Pareto front</h2>',
                  _figure(svgs, "pareto", "Each point is a verified design; the marked ones "
-                         "are the picks. Hum margin is the worst rail's allowance over its "
-                         "ripple; sag the worst rail's DC drop from idle to full signal.",
-                         wide=True), "</section>"]
+                         "are the picks. Sag is the worst rail's DC drop from idle to full "
+                         "signal.", wide=True), HUM_NOTE, "</section>"]
         body += [_design_section(result, i, waves.get(i), svgs, width) for i in shown]
         body += [_comparison_section(result, cur), _all_section(result, cur)]
     body.append('<p class="note">Parts and prices come from the catalog in use; the built-in '

@@ -20,7 +20,7 @@ def _objective_axes(result, names: Sequence[str]) -> tuple[np.ndarray, list[str]
     for name in names:
         col = np.array([c.objectives[name] for c in result.designs], dtype=float)
         if name == "hum_db":
-            col, label = -col, "hum margin [dB]"
+            label = "hum, all rails [dB, Σ re allowances]"
         elif name == "regulation_pct":
             label = "DC sag idle→full [%]"
         elif name == "peak" and all(rated):
@@ -69,8 +69,8 @@ def pareto_figure(result, objectives: Sequence[str] | None = None, *, title: str
 
     An objective that is the same for every design (within :data:`SAME`) is
     named below the panels instead of being paired, unless fewer than two
-    objectives would be left. Hum is shown as its margin (the negative of the
-    ``hum_db`` objective, higher is better), as in the reports' tables.
+    objectives would be left. Every objective is plotted as searched: lower is
+    better (hum as the power sum of every rail's ripple over its allowance).
 
     Parameters
     ----------
@@ -108,9 +108,6 @@ def pareto_figure(result, objectives: Sequence[str] | None = None, *, title: str
                 ax.annotate(f"#{i + 1}", (F[i, a], F[i, b]), xytext=(5, 4),
                             textcoords="offset points", fontsize=8, color=colour, zorder=4,
                             annotation_clip=False, path_effects=[halo])
-            for axis, j in ((ax.axvline, a), (ax.axhline, b)):
-                if names[j] == "hum_db":
-                    axis(0.0, color=LIMIT, ls="--", lw=0.8)
             ax.margins(0.08)
             ax.set_xlabel(labels[a])
             ax.set_ylabel(labels[b])
@@ -125,6 +122,6 @@ def pareto_figure(result, objectives: Sequence[str] | None = None, *, title: str
                             title="; ".join(same) + " (not plotted)" if same else None,
                             title_fontsize=8.5)
         legend.get_title().set_color(LIMIT)
-        fig.suptitle(title or f"Pareto set of {len(result.designs)} designs — better: more hum "
-                              "margin, less sag, lower peak and cost (dashed: 0 dB margin)")
+        fig.suptitle(title or f"Pareto set of {len(result.designs)} designs — better: lower "
+                              "in every objective (towards the lower left)")
     return fig

@@ -24,6 +24,11 @@ def _margins(c) -> str:
     return " ".join(out)
 
 
+def _margin_text(c) -> str:
+    m = c.columns.get("hum_margin_db", float("nan"))
+    return f"{m:.1f} dB" if m == m else "·"
+
+
 def render_synthesis(console, result, limit: int = 25) -> None:
     from rich.panel import Panel
     from rich.table import Table
@@ -44,7 +49,8 @@ def render_synthesis(console, result, limit: int = 25) -> None:
                     f"({result.evaluations} candidates evaluated)", title_justify="left")
     for col, just in (("#", "right"), ("filter", "left"), ("transformer / rectifier", "left"),
                       ("links and capacitors", "left"), ("DC off target %", "left"),
-                      ("hum margin", "right"), ("idle→full", "right"), ("peak", "right"),
+                      ("hum Σ", "right"), ("worst margin", "right"), ("idle→full", "right"),
+                      ("peak", "right"),
                       (f"cost {cur}", "right"), ("pick", "left")):
         t.add_column(col, justify=just)
     shown = sorted(set(range(min(limit, len(result.designs)))) | set(marks))
@@ -56,11 +62,14 @@ def render_synthesis(console, result, limit: int = 25) -> None:
         source = f"{c.design.transformer.part or '—'} / " \
                  f"{c.design.rectifier.part or c.design.rectifier.kind}"
         t.add_row(str(k + 1), c.notation, source, _parts(c), _margins(c),
-                  f"{-c.objectives['hum_db']:.1f} dB", f"{-c.objectives['regulation_pct']:.1f} %",
+                  f"{c.objectives['hum_db']:+.1f} dB", _margin_text(c),
+                  f"{-c.objectives['regulation_pct']:.1f} %",
                   peak_txt, f"{c.cost:.2f}", ", ".join(marks.get(k, [])))
     console.print(t)
-    console.print("[dim]peak: rectifier peak current per anode as a share of its rating; "
-                  "idle→full: the worst rail's DC change from idle to full signal[/]")
+    console.print("[dim]hum Σ: every rail's ripple over its allowance, powers added, "
+                  "10·log10 Σ (ripple/allowed)²; worst margin: the noisiest rail's dB below "
+                  "its allowance; peak: rectifier peak current per anode as a share of its "
+                  "rating; idle→full: the worst rail's DC change from idle to full signal[/]")
     if len(result.designs) > len(shown):
         console.print(f"[dim]{len(result.designs) - len(shown)} more designs in the output "
                       "files.[/]")
@@ -71,11 +80,11 @@ def render_synthesis(console, result, limit: int = 25) -> None:
     if cmp:
         r, c = cmp["resistor"], cmp["choke"]
         lines = [
-            f"best all-resistor: {r.notation}, cost {r.cost:.2f} {cur}, hum margin "
-            f"{-r.objectives['hum_db']:.1f} dB, idle→full {-r.objectives['regulation_pct']:.1f} "
+            f"best all-resistor: {r.notation}, cost {r.cost:.2f} {cur}, hum Σ "
+            f"{r.objectives['hum_db']:+.1f} dB, idle→full {-r.objectives['regulation_pct']:.1f} "
             f"%, {format_si(r.resistor_heat_w, 'W')} of heat in dropping resistors",
             f"best with a choke{' at comparable hum' if cmp['comparable_hum'] else ''}: "
-            f"{c.notation}, cost {c.cost:.2f} {cur}, hum margin {-c.objectives['hum_db']:.1f} "
+            f"{c.notation}, cost {c.cost:.2f} {cur}, hum Σ {c.objectives['hum_db']:+.1f} "
             f"dB, idle→full {-c.objectives['regulation_pct']:.1f} %, "
             f"{format_si(c.resistor_heat_w, 'W')} in resistors, chokes weigh "
             f"{c.choke_mass_kg:.1f} kg",

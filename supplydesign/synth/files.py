@@ -19,7 +19,12 @@ from ..io.tomlwrite import dump_design
 from ..units import format_si
 from ..writefiles import write_text_atomic
 from .run import Candidate, SynthResult
-from .score import CAP_VOLTAGE_MARGIN, RESISTOR_POWER_FACTOR
+from .score import CAP_VOLTAGE_MARGIN, COLUMNS, RESISTOR_POWER_FACTOR
+
+
+def _finite(columns: dict[str, float]) -> dict[str, float]:
+    """The reported columns that have a value (JSON has no NaN)."""
+    return {k: v for k, v in columns.items() if math.isfinite(v)}
 
 
 def _comments(c: Candidate) -> dict[str, str]:
@@ -69,7 +74,7 @@ def write_run(result: SynthResult, out_dir: str, *, force: bool = False,
         written.append(path)
         entries.append({
             "file": rel, "cost": c.cost, "feasible": c.feasible, "objectives": c.objectives,
-            "notation": c.notation,
+            **_finite(c.columns), "notation": c.notation,
             "picks": [name for name, (i, _) in result.picks.items() if i == k - 1],
             "rails": [{"name": r.name, "dc_v": c.full["dc_v"][i],
                        "ripple_rms_v": c.full["ripple_rms_v"][i],
@@ -85,7 +90,7 @@ def write_run(result: SynthResult, out_dir: str, *, force: bool = False,
         idx = {id(c): k for k, c in enumerate(result.designs, start=1)}
         doc["choke_vs_resistor"] = {
             side: {"design": idx.get(id(c)), "cost": c.cost, "hum_db": c.objectives["hum_db"],
-                   "regulation_pct": c.objectives["regulation_pct"],
+                   "regulation_pct": c.objectives["regulation_pct"], **_finite(c.columns),
                    "resistor_heat_w": c.resistor_heat_w, "choke_mass_kg": c.choke_mass_kg,
                    "notation": c.notation}
             for side, c in (("resistor", result.comparison["resistor"]),
@@ -96,11 +101,13 @@ def write_run(result: SynthResult, out_dir: str, *, force: bool = False,
     buf = io.StringIO()
     w = csv.writer(buf)
     rails = [r.name for r in result.brief.rails]
-    w.writerow(["file", "notation", "cost", *result.objectives, "transformer", "rectifier",
+    w.writerow(["file", "notation", "cost", *result.objectives, *COLUMNS, "transformer",
+                "rectifier",
                 *[f"{r} dc [V]" for r in rails], *[f"{r} hum [V]" for r in rails]])
     for e, c in zip(entries, result.designs, strict=True):
         w.writerow([e["file"], c.notation, f"{c.cost:.2f}",
                     *[f"{c.objectives[o]:.6g}" for o in result.objectives],
+                    *[f"{c.columns.get(k, math.nan):.6g}" for k in COLUMNS],
                     c.design.transformer.part or "", c.design.rectifier.part or "",
                     *[f"{v:.6g}" for v in c.full["dc_v"]],
                     *[f"{v:.6g}" for v in c.full["ripple_rms_v"]]])

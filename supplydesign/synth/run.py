@@ -56,6 +56,7 @@ class Candidate:
     margins: dict[str, float]  # constraint name -> value (<= 0 met)
     full: dict  # per rail arrays of the verified full-load figures (dc_v, ripple_rms_v, ...)
     regulation: list[float]
+    columns: dict[str, float] = field(default_factory=dict)  # score.COLUMNS -> value
 
 
 @dataclass
@@ -151,7 +152,7 @@ def _candidate(space, dec, sc: Scores, j: int, design: Design, full: FigureArray
         full={"dc_v": full.dc_v[j].tolist(), "ripple_rms_v": full.ripple_rms_v[j].tolist(),
               "ripple_pp_v": full.ripple_pp_v[j].tolist(), "peak_a": float(full.rect_peak_a[j]),
               "link_power_w": full.link_power_w[j].tolist()},
-        regulation=reg)
+        regulation=reg, columns={k: float(v[j]) for k, v in sc.columns.items()})
 
 
 def _picks(cands: list[Candidate]) -> dict[str, tuple[int, str]]:
@@ -163,7 +164,9 @@ def _picks(cands: list[Candidate]) -> dict[str, tuple[int, str]]:
     i = int(np.argmin(cost))
     picks["cheapest"] = (i, f"lowest parts cost of the set ({cost[i]:.2f})")
     i = int(np.argmin(hum))
-    picks["quietest"] = (i, f"most hum margin on its worst rail ({-hum[i]:.1f} dB)")
+    picks["quietest"] = (i, f"least hum over all rails ({hum[i]:+.1f} dB summed against "
+                            f"the allowances; worst rail "
+                            f"{cands[i].columns['hum_margin_db']:.1f} dB below its own)")
     i = int(np.argmin(reg))
     picks["stiffest"] = (i, f"smallest idle-to-full DC change ({reg[i]:.1f} %)")
     span = np.ptp(F, axis=0)

@@ -2,12 +2,21 @@
 
 Objectives (all minimised):
 
-- ``hum_db``: the worst rail's ripple over its allowance, 20 log10(ripple / hum) [dB];
+- ``hum_db``: every rail's ripple against its allowance, as one power sum,
+  10 log10 sum_i (ripple_i / hum_i)^2 [dB] over the rails that state ``hum``
+  (0 dB: one rail exactly at its allowance, the others silent; every rail at its
+  allowance gives 10 log10 N). Better filtering of any rail lowers it. Each rail's
+  allowance stays a constraint; the worst rail's margin, -20 log10 max_i(ripple_i /
+  hum_i), is a reported column (``hum_margin_db``), not an objective. A brief with
+  no ``hum`` anywhere sums the ripple itself, in dB re 1 V rms;
 - ``regulation_pct``: the worst rail's DC change from idle to full-signal current,
   in % of the full-signal DC;
 - ``peak``: rectifier peak current per anode over its rating (a ratio), or in A
   where the rectifier has no rating;
 - ``cost``: the price of every part the search chooses plus the brief's priced parts.
+
+Reported columns (``COLUMNS``) are figures shown beside the objectives but not
+searched on.
 
 Constraints are columns of G, feasible where <= 0, each named for explanations.
 Part ratings follow common practice: a capacitor rated for the no-load voltage at
@@ -28,6 +37,8 @@ from ..parts.rating import choose_resistors as cheapest_resistors
 from .space import KIND_CHOKE, KIND_RESISTOR, KIND_WIRE, Decoded, SearchSpace
 
 OBJECTIVES = ("hum_db", "regulation_pct", "peak", "cost")
+#: reported beside the objectives, not searched on
+COLUMNS = ("hum_margin_db",)
 #: margin of a capacitor's voltage rating over the no-load crest at high mains
 CAP_VOLTAGE_MARGIN = RULES.voltage_margin
 #: resistor power rating over its dissipation [practice: "twice the dissipation"]
@@ -73,6 +84,7 @@ class Scores:
     cost: np.ndarray  # (n,)
     resistor_class: np.ndarray  # (n, R) row of space.resistor_classes, -1 where none
     capacitor: np.ndarray  # (n, R) row of space.capacitors, -1 where not open
+    columns: dict[str, np.ndarray]  # COLUMNS -> (n,)
 
     @property
     def feasible(self) -> np.ndarray:
@@ -106,7 +118,7 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
     cost = np.zeros(n)
     rc = space.resistor_classes
     res_class = np.full((n, R), -1)
-    hum_terms = []
+    hum_ratios = []
     for i, rail in enumerate(brief.rails):
         label = f'rail "{rail.name}"'
         dc, ripple = full.dc_v[:, i], full.ripple_rms_v[:, i]
@@ -114,7 +126,7 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
             add(f"{label} DC", np.abs(dc - rail.voltage_v) / rail.voltage_v - rail.tolerance)
         if rail.hum_v is not None:
             add(f"{label} hum", ripple / rail.hum_v - 1.0)
-            hum_terms.append(20.0 * np.log10(np.maximum(ripple, 1e-12) / rail.hum_v))
+            hum_ratios.append(ripple / rail.hum_v)
         # capacitor: voltage (no-load crest at high mains plus margin) and ripple current
         rs = space.rails[i]
         v_need = no_load_crest_v(space, dec) * (1.0 + CAP_VOLTAGE_MARGIN)
@@ -198,14 +210,38 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
                  _ratio(l_crit, np.where(dec.inductance[:, 0] > 0, dec.inductance[:, 0], np.nan)),
                  -1.0))
     # objectives
-    if hum_terms:
-        hum_db = np.max(hum_terms, axis=0)
-    else:
-        hum_db = 20.0 * np.log10(np.maximum(full.ripple_rms_v[:, -1], 1e-12))
+    hum_db, margin_db = hum_objective(np.stack(hum_ratios, axis=1) if hum_ratios
+                                      else full.ripple_rms_v)
+    if not hum_ratios:
+        margin_db = np.full(n, np.nan)  # no allowance, no margin
     with np.errstate(divide="ignore", invalid="ignore"):
         reg = np.max(np.abs(idle.dc_v - full.dc_v) / full.dc_v, axis=1) * 100.0
     peak = np.where(np.isfinite(max_peak), full.rect_peak_a / max_peak, full.rect_peak_a)
     F = np.stack([hum_db, reg, peak, cost], axis=1)
     # an unconverged steady state is never feasible
     add("solver convergence", np.where(full.converged & idle.converged, -1.0, 1.0))
-    return Scores(F, np.stack(cols, axis=1), names, cost, res_class, caprow)
+    return Scores(F, np.stack(cols, axis=1), names, cost, res_class, caprow,
+                  {"hum_margin_db": margin_db})
+
+
+def hum_objective(ratios: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The hum objective and the worst rail's margin from ripple-to-allowance ratios.
+
+    Parameters
+    ----------
+    ratios : numpy.ndarray, shape (n, k)
+        Each rail's rms ripple over its allowance (k rails with an allowance).
+
+    Returns
+    -------
+    hum_db : numpy.ndarray, shape (n,)
+        10 log10 sum_i ratio_i^2 [dB]: the rails' hum powers, each scaled to its
+        allowance, added (incoherent sum, as independent noise powers add).
+    margin_db : numpy.ndarray, shape (n,)
+        -20 log10 max_i ratio_i [dB]: how far the worst rail is below its allowance.
+    """
+    ratios = np.maximum(np.nan_to_num(np.asarray(ratios, float), nan=np.inf), 1e-12)
+    with np.errstate(over="ignore", invalid="ignore"):
+        hum_db = 10.0 * np.log10(np.sum(ratios**2, axis=1))
+    margin_db = -20.0 * np.log10(np.max(ratios, axis=1))
+    return hum_db, margin_db
