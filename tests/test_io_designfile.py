@@ -184,6 +184,16 @@ def test_mains_low_high_and_bare_emission(tmp_path):
     assert same(round_trip(d, tmp_path), d)
 
 
+@pytest.mark.parametrize("written", ['"1.8"', '" 1.8 "', "1.8", '"18e-1"'])
+def test_dimensionless_key_takes_a_bare_or_quoted_number(written, tmp_path):
+    text = edited('arrangement = "full-wave"', f'arrangement = "full-wave"\nemission = {written}')
+    text = edited('capacitor = { capacitance = "47 uF"',
+                  'capacitor = { capacitance = "47 uF", price = "2.50"', text)
+    d = load_design(write(tmp_path, text))
+    assert d.rectifier.emission == 1.8
+    assert d.rails[0].capacitor.price == 2.5
+
+
 def test_branches_with_from_and_resistive_load(tmp_path):
     text = BASE + '\n[[rail]]\nname = "side"\nfrom = "plates"\n' \
         'link = { kind = "resistor", resistance = "2.2 kohm" }\ncapacitor = "none"\n' \
@@ -545,8 +555,15 @@ MALFORMED = [
     ("valve-without-drop", 'kind = "silicon"', 'kind = "valve"', "rectifier.drop", "drop"),
     ("silicon-key-on-valve", 'kind = "silicon"', 'kind = "valve"\ndrop = "17 V"\n'
      'drop_current = "250 mA"\nemission = 1.8', "rectifier.emission", "silicon rectifier"),
-    ("emission-string", 'arrangement = "full-wave"', 'arrangement = "full-wave"\n'
-     'emission = "1.8"', "rectifier.emission", "plain number"),
+    ("emission-with-unit", 'arrangement = "full-wave"', 'arrangement = "full-wave"\n'
+     'emission = "1.8 V"', "rectifier.emission", "plain number without a unit"),
+    ("emission-word", 'arrangement = "full-wave"', 'arrangement = "full-wave"\n'
+     'emission = "high"', "rectifier.emission", "plain number without a unit"),
+    ("emission-quoted-nan", 'arrangement = "full-wave"', 'arrangement = "full-wave"\n'
+     'emission = "nan"', "rectifier.emission", "finite number"),
+    ("price-with-currency", 'capacitor = { capacitance = "47 uF"',
+     'capacitor = { capacitance = "47 uF", price = "2.50 EUR"', 'rail "plates".capacitor.price',
+     "plain number without a unit"),
     ("current-and-resistance", 'current = "20 mA"', 'current = "20 mA"\nresistance = "20 kohm"',
      f"{TR}.current", "not both"),
     ("tolerance-and-low", 'tolerance = "10 %"', 'tolerance = "10 %"\nlow = "-10 %"',

@@ -303,9 +303,7 @@ class _Reader:
     def quantity(self, value: Any, spec: Quantity, key: str) -> float:
         dim = spec.dimension
         if dim == "number":
-            if isinstance(value, bool) or not isinstance(value, int | float):
-                raise self.fail(key, f"expected a plain number (no unit), got {value!r}")
-            number = float(value)
+            number = self.plain_number(value, key)
             if not math.isfinite(number):
                 raise self.fail(key, f"expected a finite number, got {value!r}")
             word, shown = "a number", repr(value)
@@ -326,6 +324,20 @@ class _Reader:
             raise self.fail(key, f"expected {word} of at most {self.bound(spec.high, dim)}, "
                                  f"got {shown}")
         return number
+
+    def plain_number(self, value: Any, key: str) -> float:
+        """A dimensionless number, bare (``emission = 1.8``) or quoted as users write
+        every other value (``emission = "1.8"``); a unit is an error."""
+        if isinstance(value, str):
+            try:
+                return float(value.strip())
+            except ValueError:
+                raise self.fail(key, f"expected a plain number without a unit, such as 1.8 "
+                                     f"or \"1.8\", got {value!r}") from None
+        if isinstance(value, bool) or not isinstance(value, int | float):
+            raise self.fail(key, f"expected a plain number without a unit, such as 1.8, "
+                                 f"got {value!r}")
+        return float(value)
 
     @staticmethod
     def bound(value: float, dim: str) -> str:
