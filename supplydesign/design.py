@@ -16,6 +16,8 @@ WINDINGS = ("center-tapped", "single")
 RECTIFIER_KINDS = ("valve", "silicon")
 ARRANGEMENTS = ("full-wave", "bridge", "half-wave")
 LINK_KINDS = ("wire", "resistor", "choke", "choose")
+#: how a part's value is spread within its tolerance among many builds
+DISTRIBUTIONS = ("uniform", "normal")
 
 # Defaults of a generic 1 kV, 1 A silicon diode (shared file contract).
 SILICON_SATURATION_A = 5e-9
@@ -24,10 +26,25 @@ SILICON_SERIES_OHM = 0.05
 
 
 @dataclass(frozen=True)
+class Tolerance:
+    """A band around a nominal value, as fractions: from nominal·(1 − low) to
+    nominal·(1 + high). "20 %" is Tolerance(0.2, 0.2); "-10 % +50 %" (an electrolytic
+    as often sold) is Tolerance(0.1, 0.5)."""
+
+    low: float
+    high: float
+
+    @property
+    def symmetric(self) -> bool:
+        return self.low == self.high
+
+
+@dataclass(frozen=True)
 class Mains:
     frequency_hz: float = 50.0
     low: float = 0.10  # fraction below nominal at the low limit
     high: float = 0.10  # fraction above nominal at the high limit
+    distribution: str = "uniform"  # of the mains across its band among many builds
 
 
 @dataclass(frozen=True)
@@ -37,6 +54,10 @@ class Transformer:
     resistance_ohm: float | None = None  # total source resistance per half (or whole winding)
     leakage_h: float = 0.0  # series leakage inductance per half
     rated_current_a: float | None = None  # DC load current rating
+    # spread among builds (None: from the catalog, else a stated default)
+    tolerance: Tolerance | None = None  # of the open-circuit voltage
+    resistance_tolerance: Tolerance | None = None
+    distribution: str = "uniform"
     part: str | None = None  # catalog id, when taken from a catalog
     choose: tuple[str, ...] = ()  # brief: catalog ids to choose among
     price: float | None = None
@@ -62,6 +83,9 @@ class Rectifier:
     # time from switch-on until the rectifier conducts (a valve's heater warm-up);
     # None: at once (silicon)
     warm_up_s: float | None = None
+    # spread of a valve's drop among builds (None: a stated default)
+    tolerance: Tolerance | None = None
+    distribution: str = "uniform"
     part: str | None = None
     choose: tuple[str, ...] = ()
     price: float | None = None
@@ -89,6 +113,10 @@ class Link:
     inductance_h: float | None = None  # choke only
     power_w: float | None = None  # resistor power rating
     current_rating_a: float | None = None  # choke DC current rating
+    # spread among builds (None: catalog, E-series or a stated default)
+    tolerance: Tolerance | None = None  # of the resistance, or of a choke's inductance
+    resistance_tolerance: Tolerance | None = None  # of a choke's DCR
+    distribution: str = "uniform"
     part: str | None = None
     among: tuple[str, ...] = ()
     price: float | None = None
@@ -111,6 +139,9 @@ class Capacitor:
     esr_ohm: float = 0.0
     voltage_rating_v: float | None = None
     ripple_rating_a: float | None = None
+    # spread of the capacitance among builds (None: catalog, E-series or a stated default)
+    tolerance: Tolerance | None = None
+    distribution: str = "uniform"
     part: str | None = None
     price: float | None = None
     currency: str | None = None

@@ -194,6 +194,45 @@ def test_dimensionless_key_takes_a_bare_or_quoted_number(written, tmp_path):
     assert d.rails[0].capacitor.price == 2.5
 
 
+@pytest.mark.parametrize("text,low,high", [
+    ("20 %", 0.2, 0.2), ("±5 %", 0.05, 0.05), ("+/-1%", 0.01, 0.01), ("0 %", 0.0, 0.0),
+    ("-10 % +50 %", 0.1, 0.5), ("+50 % -10 %", 0.1, 0.5), ("-20%/+80%", 0.2, 0.8),
+    ("-0.5 %, +1.5 %", 0.005, 0.015),
+])
+def test_tolerance_forms(text, low, high, tmp_path):
+    cap = f'{{ capacitance = "22 uF", tolerance = "{text}" }}'
+    d = load_design(write(tmp_path, edited(S, cap)))
+    tol = d.rails[1].capacitor.tolerance
+    assert (tol.low, tol.high) == (pytest.approx(low), pytest.approx(high))
+    assert same(round_trip(d, tmp_path), d)
+
+
+def test_spread_keys_on_every_part_and_round_trip(tmp_path):
+    text = edited('tolerance = "10 %"', 'tolerance = "10 %"\ndistribution = "normal"')
+    text = edited('rated_current = "250 mA"', 'rated_current = "250 mA"\ntolerance = "4 %"\n'
+                  'resistance_tolerance = "-5 % +15 %"', text)
+    text = edited(CHOKE, '{ kind = "choke", inductance = "10 H", resistance = "150 ohm", '
+                         'tolerance = "-20 % +10 %", resistance_tolerance = "8 %", '
+                         'distribution = "normal" }', text)
+    text = edited('power = "1 W" }', 'power = "1 W", tolerance = "1 %" }', text)
+    d = load_design(write(tmp_path, text))
+    assert d.mains.distribution == "normal" and d.rectifier.tolerance is None
+    tr = d.transformer
+    assert (tr.tolerance.low, tr.resistance_tolerance.high) == (pytest.approx(0.04),
+                                                                pytest.approx(0.15))
+    choke, res = d.rails[1].link, d.rails[2].link
+    assert (choke.tolerance.low, choke.tolerance.high) == (pytest.approx(0.2), pytest.approx(0.1))
+    assert choke.resistance_tolerance.symmetric and choke.distribution == "normal"
+    assert res.tolerance.low == pytest.approx(0.01) and res.distribution == "uniform"
+    assert d.rails[0].capacitor.tolerance is None  # unstated: catalog, series or default
+    assert same(round_trip(d, tmp_path), d)
+    valve = edited('kind = "silicon"', 'kind = "valve"\ndrop = "17 V"\ndrop_current = "250 mA"\n'
+                   'tolerance = "15 %"', text)
+    v = load_design(write(tmp_path, valve, "v.toml"))
+    assert v.rectifier.tolerance.high == pytest.approx(0.15)
+    assert same(round_trip(v, tmp_path), v)
+
+
 def test_branches_with_from_and_resistive_load(tmp_path):
     text = BASE + '\n[[rail]]\nname = "side"\nfrom = "plates"\n' \
         'link = { kind = "resistor", resistance = "2.2 kohm" }\ncapacitor = "none"\n' \
@@ -581,6 +620,26 @@ MALFORMED = [
     ("rail-single-brackets", BASE[BASE.index("[[rail]]"):],
      '[rail]\nname = "x"\nlink = "wire"\ncapacitor = "none"\n', "rail", "two brackets"),
     ("mains-not-table", MAINS, 'mains = "50 Hz"\n', "mains", "[mains] table"),
+    ("tolerance-bare-number", S, '{ capacitance = "22 uF", tolerance = 20 }',
+     f"{TR}.capacitor.tolerance", '"20 %"'),
+    ("tolerance-not-percent", S, '{ capacitance = "22 uF", tolerance = "2 uF" }',
+     f"{TR}.capacitor.tolerance", "percent only"),
+    ("tolerance-two-below", S, '{ capacitance = "22 uF", tolerance = "-10 % -5 %" }',
+     f"{TR}.capacitor.tolerance", "one below (-) and one above (+)"),
+    ("tolerance-one-signed", S, '{ capacitance = "22 uF", tolerance = "+10 %" }',
+     f"{TR}.capacitor.tolerance", "one below (-) and one above (+)"),
+    ("tolerance-all-below", S, '{ capacitance = "22 uF", tolerance = "-100 % +5 %" }',
+     f"{TR}.capacitor.tolerance", "at most 99 % below"),
+    ("tolerance-far-above", S, '{ capacitance = "22 uF", tolerance = "-10 % +300 %" }',
+     f"{TR}.capacitor.tolerance", "at most 200 % above"),
+    ("bad-distribution", S, '{ capacitance = "22 uF", distribution = "gaussian" }',
+     f"{TR}.capacitor.distribution", '"uniform" or "normal"'),
+    ("resistor-dcr-tolerance", 'power = "1 W" }', 'power = "1 W", resistance_tolerance = "5 %" }',
+     'rail "preamp".link.resistance_tolerance', "a resistor's spread is its tolerance"),
+    ("silicon-tolerance", 'arrangement = "full-wave"', 'arrangement = "full-wave"\n'
+     'tolerance = "10 %"', "rectifier.tolerance", "valve rectifier"),
+    ("mains-distribution", 'tolerance = "10 %"', 'tolerance = "10 %"\ndistribution = "flat"',
+     "mains.distribution", '"uniform" or "normal"'),
     ("missing-frequency", 'frequency = "50 Hz"\n', "", "mains.frequency", "60 Hz"),
 ]
 

@@ -224,6 +224,16 @@ def test_readme_documents_every_column():
             assert col.key.lower() in readme, col.key
 
 
+def test_tolerance_column_of_every_family_but_rectifiers():
+    """The band `spread` falls back on when a design gives none (fractions, demo values)."""
+    cat = load_catalog()
+    for fam in ("capacitor", "choke", "resistor", "transformer"):
+        tol = cat.table(fam)["tolerance"]
+        assert np.all((tol > 0) & (tol <= 0.2)), fam
+        assert "tolerance" not in cat.get(fam, cat.ids(fam)[0])  # not a design field
+    assert "tolerance" not in cat.table("rectifier")
+
+
 # --------------------------------------------------------------------------- get()
 
 

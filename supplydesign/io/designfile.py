@@ -24,6 +24,7 @@ from typing import Any, Protocol
 
 from ..design import (
     ARRANGEMENTS,
+    DISTRIBUTIONS,
     RECTIFIER_KINDS,
     WINDINGS,
     Capacitor,
@@ -32,6 +33,7 @@ from ..design import (
     Mains,
     Rail,
     Rectifier,
+    Tolerance,
     Transformer,
 )
 from ..errors import UserError
@@ -128,6 +130,17 @@ RAIL_KEYS = {
 #: keys any catalog-able part may carry: its id and its price (a bare number, dimensionless)
 PRICE_KEYS = {"price": Quantity("price", "number", positive=False)}
 PART_KEYS = ("part", "currency", *PRICE_KEYS)
+
+#: keys of a part's spread among builds (`spread`): the tolerance of its value, and of a
+#: choke's or winding's resistance, and how values spread within it
+SPREAD_KEYS = ("tolerance", "distribution")
+RESISTANCE_SPREAD_KEYS = ("tolerance", "resistance_tolerance", "distribution")
+#: widest tolerance accepted, below and above nominal (fractions)
+TOLERANCE_LOW_LIMIT = 0.99
+TOLERANCE_HIGH_LIMIT = 2.0
+#: one term of a tolerance: optional sign (+, -, ±, +/-), a number, a percent sign
+TOLERANCE_TERM = re.compile(r"\s*(\+/-|[+\-±])?\s*(\d+\.?\d*|\.\d+)\s*%\s*[,/]?")
+TOLERANCE_EXAMPLE = 'a tolerance such as "20 %" or, asymmetric, "-10 % +50 %"'
 
 CHOICE_KEYS = {"winding": WINDINGS, "kind": RECTIFIER_KINDS, "arrangement": ARRANGEMENTS}
 ALL_QUANTITY_KEYS = (TRANSFORMER_KEYS, VALVE_KEYS, RESISTOR_KEYS, CHOKE_KEYS, CAPACITOR_KEYS)
@@ -346,6 +359,42 @@ class _Reader:
         unit = {"number": "", "frequency": " Hz", "current": " A"}.get(dim, "")
         return f"{value:g}{unit}"
 
+    def tolerance(self, value: Any, key: str) -> Tolerance:
+        """``"20 %"``, ``"±20 %"`` or ``"-10 % +50 %"`` (either order) as a Tolerance."""
+        if not isinstance(value, str) or not value.strip():
+            raise self.fail(key, f"expected {TOLERANCE_EXAMPLE}, got {value!r}")
+        text, pos, terms = value.strip(), 0, []
+        while pos < len(text):
+            m = TOLERANCE_TERM.match(text, pos)
+            if m is None:
+                raise self.fail(key, f"expected {TOLERANCE_EXAMPLE} (percent only), "
+                                     f"got {value!r}")
+            terms.append((m.group(1) or "", float(m.group(2)) / 100.0))
+            pos = m.end()
+        signs = sorted(sign for sign, _ in terms)
+        if len(terms) == 1 and signs[0] in ("", "±", "+/-"):
+            low = high = terms[0][1]
+        elif len(terms) == 2 and signs == ["+", "-"]:
+            low, high = (dict((sign, x) for sign, x in terms)[s] for s in "-+")
+        else:
+            raise self.fail(key, f"expected {TOLERANCE_EXAMPLE}: one value for both sides, "
+                                 f"or one below (-) and one above (+), got {value!r}")
+        if low > TOLERANCE_LOW_LIMIT:
+            raise self.fail(key, f"expected at most {100 * TOLERANCE_LOW_LIMIT:g} % below "
+                                 f"nominal (a part keeps some of its value), got {value!r}")
+        if high > TOLERANCE_HIGH_LIMIT:
+            raise self.fail(key, f"expected at most {100 * TOLERANCE_HIGH_LIMIT:g} % above "
+                                 f"nominal, got {value!r}")
+        return Tolerance(float(f"{low:.15g}"), float(f"{high:.15g}"))
+
+    def spread(self, table: dict, where: str) -> dict:
+        """The spread keys of a part's table (see SPREAD_KEYS) as dataclass fields."""
+        out: dict = {k: self.tolerance(table[k], f"{where}.{k}")
+                     for k in ("tolerance", "resistance_tolerance") if k in table}
+        if "distribution" in table:
+            out["distribution"] = self.text(table, "distribution", where, choices=DISTRIBUTIONS)
+        return out
+
     def quantities(self, table: dict, specs: dict[str, Quantity], where: str) -> dict:
         return {spec.field: self.quantity(table[k], spec, f"{where}.{k}")
                 for k, spec in specs.items() if k in table}
@@ -437,7 +486,7 @@ class _Reader:
                       source=self.file, catalog=_catalog_setting(table, self.file))
 
     def mains(self, t: dict) -> Mains:
-        self.keys(t, MAINS_KEYS, "mains")
+        self.keys(t, (*MAINS_KEYS, "distribution"), "mains")
         if "frequency" not in t:
             raise self.fail("mains.frequency", 'missing key: expected frequency = "50 Hz" '
                                                 'or "60 Hz"')
@@ -456,11 +505,14 @@ class _Reader:
             low = self.quantity(text, MAINS_KEYS["low"], "mains.low")
         if "high" in t:
             high = self.quantity(t["high"], MAINS_KEYS["high"], "mains.high")
-        return Mains(frequency_hz=freq, low=low, high=high)
+        spread = {"distribution": self.text(t, "distribution", "mains", choices=DISTRIBUTIONS)}
+        return Mains(frequency_hz=freq, low=low, high=high,
+                     **{k: v for k, v in spread.items() if v is not None})
 
     def transformer(self, t: dict) -> tuple[Transformer, bool]:
         where = "transformer"
-        self.keys(t, ("winding", "choose", *TRANSFORMER_KEYS, *PART_KEYS), where)
+        self.keys(t, ("winding", "choose", *TRANSFORMER_KEYS, *RESISTANCE_SPREAD_KEYS,
+                      *PART_KEYS), where)
         if "choose" in t:
             return Transformer(choose=self.choose(t, where, "transformer")), False
         values, part = self.part_fields(t, "transformer", Transformer, where)
@@ -468,6 +520,7 @@ class _Reader:
         if winding is not None:
             values["winding"] = winding
         values.update(self.quantities(t, TRANSFORMER_KEYS, where))
+        values.update(self.spread(t, where))
         self.require(values, {"winding": "winding", "open_circuit_v": "open_circuit",
                               "resistance_ohm": "resistance"}, part, where)
         if values.get("winding", "center-tapped") not in WINDINGS:
@@ -487,7 +540,8 @@ class _Reader:
     def rectifier(self, t: dict) -> tuple[Rectifier, bool]:
         where = "rectifier"
         quantity_keys = {**VALVE_KEYS, **SILICON_KEYS, **RECTIFIER_LIMIT_KEYS}
-        self.keys(t, ("kind", "arrangement", "choose", *quantity_keys, *PART_KEYS), where)
+        self.keys(t, ("kind", "arrangement", "choose", *quantity_keys, *SPREAD_KEYS,
+                      *PART_KEYS), where)
         if "choose" in t:
             return Rectifier(choose=self.choose(t, where, "rectifier")), False
         values, part = self.part_fields(t, "rectifier", Rectifier, where)
@@ -503,6 +557,12 @@ class _Reader:
                 raise self.fail(f"{where}.{key}", f"{key} is a key of a {owner} rectifier; "
                                                   f'this one has kind = "{kind}"')
         values.update(self.quantities(t, quantity_keys, where))
+        for key in SPREAD_KEYS:
+            if key in t and kind == "silicon":
+                raise self.fail(f"{where}.{key}", f"{key} is a key of a valve rectifier (the "
+                                                  "spread of its drop); a silicon rectifier's "
+                                                  "spread is fixed, stated in the spread report")
+        values.update(self.spread(t, where))
         if kind == "valve":
             self.require(values, {"drop_v": "drop", "drop_current_a": "drop_current"}, part, where)
         for key, choices in (("kind", RECTIFIER_KINDS), ("arrangement", ARRANGEMENTS)):
@@ -599,9 +659,14 @@ class _Reader:
         if kind == "choose":
             return self.choose_link(raw, key, first)
         specs = RESISTOR_KEYS if kind == "resistor" else CHOKE_KEYS
-        self.keys(raw, ("kind", *specs, *PART_KEYS), key)
+        spread = SPREAD_KEYS if kind == "resistor" else RESISTANCE_SPREAD_KEYS
+        if kind == "resistor" and "resistance_tolerance" in raw:
+            raise self.fail(f"{key}.resistance_tolerance", "a resistor's spread is its "
+                            "tolerance = \"5 %\" (resistance_tolerance is a choke's DCR)")
+        self.keys(raw, ("kind", *specs, *spread, *PART_KEYS), key)
         values, part = self.part_fields(raw, kind, Link, key)
         values.update(self.quantities(raw, specs, key))
+        values.update(self.spread(raw, key))
         needed = {"resistance_ohm": "resistance"} if kind == "resistor" else \
             {"inductance_h": "inductance", "resistance_ohm": "resistance"}
         given = [k for f, k in needed.items() if f in values]
@@ -640,9 +705,10 @@ class _Reader:
         if not isinstance(raw, dict):
             raise self.fail(key, 'expected a table such as { capacitance = "47 uF" }, or "none"'
                                  f", got {raw!r}")
-        self.keys(raw, (*CAPACITOR_KEYS, *PART_KEYS), key)
+        self.keys(raw, (*CAPACITOR_KEYS, *SPREAD_KEYS, *PART_KEYS), key)
         values, part = self.part_fields(raw, "capacitor", Capacitor, key)
         values.update(self.quantities(raw, CAPACITOR_KEYS, key))
+        values.update(self.spread(raw, key))
         if "capacitance_f" not in values and part is None:
             self.still_open(f"{key}.capacitance", "the capacitance")
         else:

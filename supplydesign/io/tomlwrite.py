@@ -21,6 +21,7 @@ from ..design import (
     Design,
     Link,
     Rail,
+    Tolerance,
 )
 from ..errors import UserError
 from .designfile import (
@@ -115,6 +116,23 @@ def _pairs(obj, specs: Mapping[str, Quantity], skip: Mapping[str, float] = {}) -
     return out
 
 
+def tolerance_text(tol: Tolerance) -> str:
+    """A tolerance as the file writes it: ``"20 %"`` or ``"-10 % +50 %"``."""
+    if tol.symmetric:
+        return format_quantity(tol.low, "fraction")
+    below = format_quantity(-tol.low, "fraction")
+    return f"{below} {format_quantity(tol.high, 'fraction', sign=True)}"
+
+
+def _spread_pairs(obj) -> list[str]:
+    """``tolerance``, ``resistance_tolerance`` and ``distribution`` where set."""
+    out = [f"{key} = {_string(tolerance_text(getattr(obj, key)))}"
+           for key in ("tolerance", "resistance_tolerance") if getattr(obj, key, None)]
+    if obj.distribution != "uniform":
+        out.append(f"distribution = {_string(obj.distribution)}")
+    return out
+
+
 def _part_pairs(obj) -> tuple[list[str], list[str]]:
     """(``part = ...`` line or nothing, price and currency lines)."""
     head = [f"part = {_string(obj.part)}"] if obj.part is not None else []
@@ -148,14 +166,16 @@ def _link(link: Link) -> str:
         raise ValueError(f"unknown link kind {link.kind!r}")
     head, tail = _part_pairs(link)
     specs = RESISTOR_KEYS if link.kind == "resistor" else CHOKE_KEYS
-    return _inline([f"kind = {_string(link.kind)}", *head, *_pairs(link, specs), *tail])
+    return _inline([f"kind = {_string(link.kind)}", *head, *_pairs(link, specs),
+                    *_spread_pairs(link), *tail])
 
 
 def _capacitor(cap: Capacitor | None) -> str:
     if cap is None:
         return _string("none")
     head, tail = _part_pairs(cap)
-    pairs = [*head, *_pairs(cap, CAPACITOR_KEYS, skip={"esr_ohm": 0.0}), *tail]
+    pairs = [*head, *_pairs(cap, CAPACITOR_KEYS, skip={"esr_ohm": 0.0}), *_spread_pairs(cap),
+             *tail]
     if not pairs:
         return _string("choose")
     return _inline(pairs)
@@ -242,17 +262,19 @@ def dump_design(design: Design, *, comments: Mapping[str, str] | None = None,
     else:
         out.append(f"low = {_string(format_quantity(-m.low, 'fraction'))}")
         out.append(f"high = {_string(format_quantity(m.high, 'fraction', sign=True))}")
+    if m.distribution != "uniform":
+        out.append(f"distribution = {_string(m.distribution)}")
 
     tr = design.transformer
     body = [] if tr.part is not None and tr.open_circuit_v is None \
         else [f"winding = {_string(tr.winding)}"]  # not for a part the catalog did not fill
-    body += _pairs(tr, TRANSFORMER_KEYS, skip={"leakage_h": 0.0})
+    body += _pairs(tr, TRANSFORMER_KEYS, skip={"leakage_h": 0.0}) + _spread_pairs(tr)
     out += ["", *_comment(comments.get("[transformer]")), "[transformer]", *_part_body(tr, body)]
 
     rect = design.rectifier
     body = [f"kind = {_string(rect.kind)}", f"arrangement = {_string(rect.arrangement)}"]
     if rect.kind == "valve":
-        body += _pairs(rect, VALVE_KEYS)
+        body += _pairs(rect, VALVE_KEYS) + _spread_pairs(rect)
     else:
         body += _pairs(rect, SILICON_KEYS, skip=SILICON_DEFAULTS)
     body += _pairs(rect, RECTIFIER_LIMIT_KEYS)

@@ -90,6 +90,13 @@ class Family:
         raise KeyError(name)
 
 
+def _tolerance() -> Column:
+    """The optional tolerance column of a family: the band of the part's main value (a
+    fraction), which ``supplydesign spread`` uses when the design file gives none."""
+    return Column("tolerance", "tolerance", DIMENSIONLESS, "%", required=False,
+                  sign="nonnegative", field=False)
+
+
 def _common(*specific: Column) -> tuple[Column, ...]:
     """Identity and price columns shared by every family around the specific ones."""
     return (
@@ -106,8 +113,7 @@ CAPACITOR = Family("capacitor", "capacitors.csv", _common(
     Column("voltage", "voltage_rating_v", "volt", "V"),
     Column("esr", "esr_ohm", "ohm", "ohm", sign="nonnegative"),
     Column("ripple current at 100 hz", "ripple_rating_a", "ampere", "mA"),
-    Column("tolerance", "tolerance", DIMENSIONLESS, "%", required=False, sign="nonnegative",
-           field=False),
+    _tolerance(),  # of the capacitance
     Column("diameter", "diameter_m", "meter", "mm", required=False, field=False),
     Column("height", "height_m", "meter", "mm", required=False, field=False),
 ))
@@ -116,6 +122,7 @@ CHOKE = Family("choke", "chokes.csv", _common(
     Column("inductance", "inductance_h", "henry", "H"),
     Column("dcr", "resistance_ohm", "ohm", "ohm"),
     Column("current", "current_rating_a", "ampere", "mA"),
+    _tolerance(),  # of the inductance
     Column("mass", "mass_kg", "kilogram", "kg", required=False, field=False),
 ), fixed={"kind": "choke"})
 
@@ -124,6 +131,7 @@ RESISTOR = Family("resistor", "resistors.csv", _common(
     Column("max voltage", "max_voltage_v", "volt", "V", field=False),
     Column("min resistance", "min_resistance_ohm", "ohm", "ohm", required=False, field=False),
     Column("max resistance", "max_resistance_ohm", "ohm", "ohm", required=False, field=False),
+    _tolerance(),  # of the resistance
 ), fixed={"kind": "resistor"})
 
 TRANSFORMER = Family("transformer", "transformers.csv", _common(
@@ -133,6 +141,7 @@ TRANSFORMER = Family("transformer", "transformers.csv", _common(
     Column("leakage", "leakage_h", "henry", "mH", required=False, sign="nonnegative",
            default=0.0),
     Column("rated current", "rated_current_a", "ampere", "mA"),
+    _tolerance(),  # of the open-circuit voltage
     Column("primary", "primary_v", "volt", "V", required=False, field=False),
     Column("mass", "mass_kg", "kilogram", "kg", required=False, field=False),
 ))
