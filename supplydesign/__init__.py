@@ -22,6 +22,7 @@ _LAZY = {
     "load_design": ("supplydesign.io.designfile", "load_design"),
     "dump_design": ("supplydesign.io.tomlwrite", "dump_design"),
     "save_design": ("supplydesign.io.tomlwrite", "save_design"),
+    "readable": ("supplydesign.io.tomlwrite", "readable"),
     "evaluate": ("supplydesign.evaluation.analysis", "evaluate"),
     "IDLE": ("supplydesign.evaluation.analysis", "IDLE"),
     "OperatingCase": ("supplydesign.circuit.netlist", "OperatingCase"),

@@ -11,6 +11,7 @@ from dataclasses import replace
 from pathlib import Path
 
 import pytest
+from designfile_support import figures_of, significant_figures
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -29,8 +30,10 @@ from supplydesign.io import (
     format_quantity,
     load_design,
     read_catalog_setting,
+    readable,
     save_design,
 )
+from supplydesign.io.tomlwrite import SIGNIFICANT_FIGURES, round_significant
 from supplydesign.units import parse_quantity
 
 EXAMPLES = sorted((Path(__file__).parent.parent / "examples").glob("*.toml"))
@@ -128,8 +131,8 @@ def same(a: Design, b: Design, rel: float = 1e-12) -> bool:
     return close(replace(a, source=""), replace(b, source=""))
 
 
-def round_trip(design: Design, tmp_path: Path, **kw) -> Design:
-    path = write(tmp_path, dump_design(design), "round.toml")
+def round_trip(design: Design, tmp_path: Path, digits: int | None = None, **kw) -> Design:
+    path = write(tmp_path, dump_design(design, digits=digits), "round.toml")
     return load_design(path, **kw)
 
 
@@ -307,6 +310,21 @@ def test_round_trip_base_with_comments(tmp_path):
         dump_design(d, comments={"nowhere": "x"})
 
 
+def test_long_comments_fold_at_79_columns_between_words_not_units(tmp_path):
+    d = load_design(write(tmp_path, BASE))
+    long = ("capacitor rating: 600 V part E6-47uF-600V (demo price model), 3.86 EUR: "
+            "536 V peak at high mains, no load, +10 % margin = 590 V; ripple 1.32 mA rms")
+    for shift in range(12):  # move every number-unit pair across the fold
+        text = dump_design(d, header="x" * shift + " " + long, comments={"plates": long})
+        lines = [line for line in text.splitlines() if line.startswith("#")]
+        assert len(lines) >= 4 and all(len(line) <= 79 for line in lines)
+        for unit in ("V", "EUR", "%", "mA"):
+            assert not any(line.startswith(f"#   {unit} ") for line in lines), lines
+        starts = [line for line in lines if not line.startswith("#   ")]
+        assert len(starts) == 2 and starts[1].startswith("# capacitor rating: 600 V part")
+    assert same(load_design(write(tmp_path, text, "c.toml")), d)
+
+
 def test_round_trip_of_awkward_strings(tmp_path):
     d = load_design(write(tmp_path, BASE))
     title = 'Amp "A" \\ back\tslash ü \x7f # not a comment'
@@ -346,6 +364,23 @@ def test_format_quantity_text(value, dim, text):
     assert format_quantity(value, dim) == text
 
 
+@pytest.mark.parametrize("number,figures", [("0.4823", 4), ("47", 2), ("100", 1), ("1.70", 3),
+                                             ("2.2", 2), ("0.05", 1), ("10.5", 3)])
+def test_figures_of_a_written_number(number, figures):
+    assert figures_of(number) == figures
+
+
+@pytest.mark.parametrize("value,dim,text", [
+    (0.48228770633908, "resistance", "0.4823 ohm"), (1.70411267233126, "current", "1.704 A"),
+    (0.296647939483827, "current", "296.6 mA"), (15.9154943091895, "resistance", "15.92 ohm"),
+    (4.7e-5, "capacitance", "47 uF"), (2200.0, "resistance", "2.2 kohm"),
+    (999.96, "resistance", "1 kohm"), (0.123456, "fraction", "12.35 %"),
+])
+def test_format_quantity_to_four_figures(value, dim, text):
+    assert format_quantity(value, dim, digits=4) == text
+    assert parse_quantity(text, dim) == round_significant(value, 4)
+
+
 awkward = st.floats(min_value=1e-3, max_value=1e3, allow_nan=False, allow_infinity=False)
 
 
@@ -363,6 +398,13 @@ def test_round_trip_is_exact_for_awkward_values(c, r, i, f, p, tmp_path_factory)
                        tolerance=p + 0.01)
     d = replace(d, rails=tuple(rails), mains=replace(d.mains, frequency_hz=f, low=p, high=p / 2))
     assert same(round_trip(d, tmp), d)
+    # the default file is readable: at most 4 figures per value, read back exactly as
+    # readable() rounds them, within half a unit in the 4th figure of the design
+    text = dump_design(d)
+    assert max(significant_figures(text)) <= SIGNIFICANT_FIGURES
+    back = load_design(write(tmp, text, "readable.toml"))
+    assert back == replace(readable(d), source=back.source)
+    assert same(back, d, rel=5e-4)
 
 
 @settings(max_examples=200, deadline=None)

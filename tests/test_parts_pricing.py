@@ -21,6 +21,7 @@ from supplydesign.parts import (
     load_catalog,
     merge_tables,
 )
+from supplydesign.parts.pricing import model_resistor_classes
 
 
 def test_capacitor_grid_and_layout():
@@ -39,8 +40,18 @@ def test_capacitor_follows_the_stated_formulas():
     assert list(tab["part"]) == ["E6-47uF-450V"]
     # hand-worked: energy 0.5 * 47e-6 * 450^2 = 4.75875 J -> 1 + 0.5 * 4.75875 = 3.379
     assert tab["price"][0] == 3.38
-    assert tab["esr_ohm"][0] == pytest.approx(0.1 / (2 * math.pi * 100 * 47e-6))
-    assert tab["ripple_rating_a"][0] == pytest.approx(4.0 * math.sqrt(47e-6 * 450))
+    # ratings stated to three figures, as a data sheet states them: 0.1 / (2 pi 100 Hz
+    # 47 uF) = 3.3863 ohm -> 3.39 ohm; 4 sqrt(47e-6 x 450) = 0.58172 A -> 0.582 A
+    assert tab["esr_ohm"][0] == 3.39
+    assert tab["ripple_rating_a"][0] == 0.582
+    assert tab["esr_ohm"][0] == pytest.approx(0.1 / (2 * math.pi * 100 * 47e-6), rel=5e-3)
+    assert tab["ripple_rating_a"][0] == pytest.approx(4.0 * math.sqrt(47e-6 * 450), rel=5e-3)
+
+
+def test_resistor_class_voltage_is_stated_to_three_figures():
+    volts = model_resistor_classes()["max_voltage_v"]
+    # 350 V x sqrt(0.5 W) = 247.49 V -> 247 V; 350 V x sqrt(3 W) = 606.2 V -> 606 V
+    assert list(volts[[0, 3]]) == [247.0, 606.0]
 
 
 def test_capacitor_price_grows_with_capacitance_and_voltage():

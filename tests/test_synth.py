@@ -7,11 +7,14 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from designfile_support import significant_figures
 
 from supplydesign.cli import main
 from supplydesign.evaluation.analysis import IDLE, evaluate
 from supplydesign.io.designfile import load_design
+from supplydesign.io.tomlwrite import SIGNIFICANT_FIGURES
 from supplydesign.parts import load_catalog
+from supplydesign.synth.files import write_run
 from supplydesign.synth.run import SynthOptions, synthesize
 
 BRIEFS = Path(__file__).parent / "data" / "briefs"
@@ -41,6 +44,37 @@ def test_reported_designs_reevaluate_to_their_figures(small_run):
             assert got.dc_v == pytest.approx(rep["dc_v"], rel=1e-9)
             assert got.ripple_rms_v == pytest.approx(rep["ripple_rms_v"], rel=1e-6)
         assert fig.rectifier.peak_a == pytest.approx(entry["rectifier"]["peak_a"], rel=1e-6)
+
+
+def test_design_files_carry_at_most_four_figures_per_value(small_run):
+    for path in sorted((small_run / "designs").glob("*.toml")):
+        text = path.read_text(encoding="utf-8")
+        assert max(significant_figures(text)) <= SIGNIFICANT_FIGURES, path.name
+
+
+def test_a_brief_stated_to_many_figures_gives_files_that_reproduce_the_reported_figures(
+        catalog, tmp_path):
+    """The brief's transformer has seven figures; its files round it to four, and the
+    figures synth reports are those of the rounded file (verified after rounding)."""
+    text = (BRIEFS / "small-crc.toml").read_text(encoding="utf-8")
+    brief_path = tmp_path / "awkward.toml"
+    brief_path.write_text(text.replace('"250 V"', '"250.1234 V"')
+                          .replace('"60 ohm"', '"60.04321 ohm"'), encoding="utf-8")
+    brief = load_design(brief_path, brief=True, catalog=catalog)
+    result = synthesize(brief, catalog, SynthOptions(seed=3, pop_size=16, generations=3))
+    assert result.designs
+    write_run(result, str(tmp_path / "out"))
+    doc = json.loads((tmp_path / "out" / "pareto.json").read_text())
+    for entry in doc["designs"]:
+        written = (tmp_path / "out" / entry["file"]).read_text(encoding="utf-8")
+        assert '"250.1 V"' in written and '"60.04 ohm"' in written
+        assert max(significant_figures(written)) <= SIGNIFICANT_FIGURES
+        fig, = evaluate([load_design(tmp_path / "out" / entry["file"])])
+        # the very circuit synth verified: equal to the solver's precision, far inside
+        # the 0.1 % a design file promises (the unrounded brief differs by about 4e-4)
+        for got, rep in zip(fig.rails, entry["rails"], strict=True):
+            assert got.dc_v == pytest.approx(rep["dc_v"], rel=1e-9)
+            assert got.ripple_rms_v == pytest.approx(rep["ripple_rms_v"], rel=1e-6)
 
 
 def test_reported_designs_meet_the_brief(small_run):

@@ -127,12 +127,13 @@ def _tables(listing, width: int) -> list:
 
 def _rate_header(source: str, margin: float) -> str:
     from ..cautions import CAUTION_LINES
+    from ..io.tomlwrite import SIGNIFICANT_FIGURES
 
     return "\n".join((
-        f"Ratings chosen by `supplydesign rate` from {source}: the cheapest adequate parts,",
+        f"Ratings chosen by `supplydesign rate` from {source}: the cheapest adequate parts, "
         f"capacitors rated {100 * margin:g} % above their worst voltage (high mains, no load "
-        "included),",
-        "resistors at twice their dissipation, chokes for their full-load DC current.",
+        "included), resistors at twice their dissipation, chokes for their full-load DC "
+        f"current. Values to {SIGNIFICANT_FIGURES} significant figures.",
         "", "CAUTION:", *CAUTION_LINES))
 
 

@@ -1,17 +1,26 @@
 """Writing a :class:`~supplydesign.design.Design` (or a brief) back as a TOML file.
 
 The text follows the shared file contract, with every quantity as a string in a
-readable engineering unit ("47 uF", "2.2 kohm", "150 mA") written with as many
-digits as it takes for :func:`~supplydesign.io.designfile.load_design` to read
-back the very same float (to a few units in the last place).
+readable engineering unit ("47 uF", "2.2 kohm", "0.4823 ohm") of at most
+:data:`SIGNIFICANT_FIGURES` significant figures, so that a person reads the file
+as a parts list. :func:`readable` is the design such a file holds: the values
+rounded as written, which :func:`~supplydesign.io.designfile.load_design` reads
+back as the very same floats. A caller that reports figures of the written
+file (synth, rate) solves ``readable(design)``. ``digits=None`` writes every
+value exactly instead (as many digits as a float needs). Prices are money and
+are written as given.
 """
 
 from __future__ import annotations
 
 import json
+import math
 import os
+import re
 import tempfile
+import textwrap
 from collections.abc import Mapping
+from dataclasses import replace
 
 from ..design import (
     SILICON_EMISSION,
@@ -20,14 +29,18 @@ from ..design import (
     Capacitor,
     Design,
     Link,
+    Mains,
     Rail,
+    Rectifier,
     Tolerance,
+    Transformer,
 )
 from ..errors import UserError
 from .designfile import (
     CAPACITOR_KEYS,
     CHOKE_KEYS,
     LINK_CHOICES,
+    MAINS_KEYS,
     PRICE_KEYS,
     RAIL_KEYS,
     RECTIFIER_LIMIT_KEYS,
@@ -37,6 +50,11 @@ from .designfile import (
     VALVE_KEYS,
     Quantity,
 )
+
+#: significant figures of every quantity a design file is written with
+SIGNIFICANT_FIGURES = 4
+#: comment lines of a written file are folded to this width (a terminal's 80 columns)
+COMMENT_WIDTH = 79
 
 #: units written per dimension: (unit, size in SI), smallest first
 OUT_UNITS: dict[str, tuple[tuple[str, float], ...]] = {
@@ -61,17 +79,32 @@ def _number(x: float, size: float = 1.0) -> str:
 
     Equal to 1e-14 relative: a few units in the last place, so that a value
     such as 1e-5 F is written "10 uF" and not "10.000000000000002 uF". Falls
-    back to ``repr`` (an exponent form, which pint reads too).
+    back to the shortest exponent form (which pint reads too) for values no
+    plain decimal of 17 figures holds.
     """
     target = x * size
-    for digits in range(1, 18):
-        text = f"{x:.{digits}g}"
-        if "e" not in text and abs(float(text) * size - target) <= 1e-14 * abs(target):
-            return text
+    for exponent in (False, True):
+        for digits in range(1, 18):
+            text = f"{x:.{digits}g}"
+            if ("e" in text) == exponent and abs(float(text) * size - target) <= \
+                    1e-14 * abs(target):
+                return text
     return repr(x)
 
 
-def format_quantity(value: float, dimension: str, *, sign: bool = False) -> str:
+def round_significant(value: float, digits: int | None) -> float:
+    """``value`` rounded to ``digits`` significant figures (unchanged for None).
+
+    The float of the shortest decimal of that many figures, which is also what
+    :func:`~supplydesign.units.parse_quantity` reads back from the written text.
+    """
+    if digits is None or value == 0 or not math.isfinite(value):
+        return value
+    return float(f"{value:.{digits}g}")
+
+
+def format_quantity(value: float, dimension: str, *, sign: bool = False,
+                    digits: int | None = None) -> str:
     """A SI float as a string with a readable unit, such as ``"47 uF"``.
 
     Parameters
@@ -82,7 +115,11 @@ def format_quantity(value: float, dimension: str, *, sign: bool = False) -> str:
         A key of :data:`OUT_UNITS`.
     sign : bool
         Write a "+" before positive values ("+6 %").
+    digits : int, optional
+        Round to this many significant figures first (0.48228 ohm, 4 ->
+        "0.4823 ohm"); None writes the value exactly.
     """
+    value = round_significant(value, digits)
     units = OUT_UNITS[dimension]
     unit, size = units[0]
     for u, s in units:
@@ -97,6 +134,42 @@ def format_quantity(value: float, dimension: str, *, sign: bool = False) -> str:
 def _string(text: str) -> str:
     """A TOML basic string."""
     return json.dumps(text, ensure_ascii=False).replace("\x7f", "\\u007f")
+
+
+#: the quantity keys written for each part of a design, as the writer writes them
+WRITTEN_KEYS: dict[type, tuple[Mapping[str, Quantity], ...]] = {
+    Mains: (MAINS_KEYS,),
+    Transformer: (TRANSFORMER_KEYS,),
+    Rectifier: (VALVE_KEYS, SILICON_KEYS, RECTIFIER_LIMIT_KEYS),
+    Link: (RESISTOR_KEYS, CHOKE_KEYS),
+    Capacitor: (CAPACITOR_KEYS,),
+    Rail: (RAIL_KEYS,),
+}
+
+
+def _rounded(obj, digits: int):
+    """``obj`` with every quantity the writer rounds rounded to ``digits`` figures."""
+    if obj is None:
+        return None
+    fields = {spec.field for specs in WRITTEN_KEYS[type(obj)] for spec in specs.values()
+              if spec.dimension in OUT_UNITS}
+    new = {f: round_significant(getattr(obj, f), digits) for f in fields
+           if isinstance(getattr(obj, f), float)}
+    return replace(obj, **new)
+
+
+def readable(design: Design, digits: int = SIGNIFICANT_FIGURES) -> Design:
+    """The design a file written by :func:`dump_design` holds: every quantity
+    rounded to ``digits`` significant figures (prices and plain numbers as they are).
+
+    Solve this design, not the unrounded one, when its figures are reported beside
+    the file: ``load_design`` reads the file back to exactly these floats.
+    """
+    rails = [replace(_rounded(r, digits), link=_rounded(r.link, digits),
+                     capacitor=_rounded(r.capacitor, digits)) for r in design.rails]
+    return replace(design, mains=_rounded(design.mains, digits),
+                   transformer=_rounded(design.transformer, digits),
+                   rectifier=_rounded(design.rectifier, digits), rails=tuple(rails))
 
 
 def _value(value, spec: Quantity) -> str:
@@ -181,10 +254,23 @@ def _capacitor(cap: Capacitor | None) -> str:
     return _inline(pairs)
 
 
+#: a number and the unit after it ("536 V", "10 %"), kept on one line when folding
+_NUMBER_UNIT = re.compile(r"(\d) (?=[^\W\d_]|[%Ω°])")
+
+
 def _comment(text: str | None) -> list[str]:
+    """Comment lines of ``text``, each line folded to :data:`COMMENT_WIDTH` at spaces
+    (continuations indented), never between a number and its unit."""
     if not text:
         return []
-    return [("# " + line).rstrip() for line in text.splitlines()]
+    out = []
+    for line in text.splitlines():
+        glued = _NUMBER_UNIT.sub("\\1\u00a0", line)  # textwrap breaks at ASCII spaces only
+        folded = textwrap.wrap(glued, COMMENT_WIDTH, initial_indent="# ",
+                               subsequent_indent="#   ", break_long_words=False,
+                               break_on_hyphens=False) or ["#"]
+        out += [part.replace("\u00a0", " ") for part in folded]
+    return out
 
 
 def _rail(rail: Rail, previous: Rail | None) -> list[str]:
@@ -206,7 +292,8 @@ def _rail(rail: Rail, previous: Rail | None) -> list[str]:
 
 
 def dump_design(design: Design, *, comments: Mapping[str, str] | None = None,
-                header: str | None = None, base_dir: str | os.PathLike | None = None) -> str:
+                header: str | None = None, base_dir: str | os.PathLike | None = None,
+                digits: int | None = SIGNIFICANT_FIGURES) -> str:
     """The TOML text of a design or brief, in the form of the shared file contract.
 
     Parameters
@@ -221,12 +308,16 @@ def dump_design(design: Design, *, comments: Mapping[str, str] | None = None,
     base_dir : path, optional
         Folder the file will be in: the ``catalog`` folder is written relative
         to it.
+    digits : int or None
+        Significant figures of every quantity (default
+        :data:`SIGNIFICANT_FIGURES`); None writes each value exactly.
 
     Returns
     -------
     str
         The file text; :func:`~supplydesign.io.designfile.load_design` reads it
-        back to an equal design.
+        back to ``readable(design, digits)`` (to ``design`` itself for
+        ``digits=None``).
 
     Notes
     -----
@@ -235,6 +326,8 @@ def dump_design(design: Design, *, comments: Mapping[str, str] | None = None,
     without a catalog (a brief) holds the dataclass defaults for ``kind`` and
     ``arrangement``, which are written as if given: resolve parts before dumping.
     """
+    if digits is not None:
+        design = readable(design, digits)
     comments = dict(comments or {})
     sections = {"[mains]", "[transformer]", "[rectifier]"}
     unknown = set(comments) - sections - {r.name for r in design.rails}
@@ -288,14 +381,15 @@ def dump_design(design: Design, *, comments: Mapping[str, str] | None = None,
 
 
 def save_design(design: Design, path: str | os.PathLike, *, force: bool = False,
-                comments: Mapping[str, str] | None = None, header: str | None = None) -> None:
+                comments: Mapping[str, str] | None = None, header: str | None = None,
+                digits: int | None = SIGNIFICANT_FIGURES) -> None:
     """Write a design to ``path`` atomically (a temporary file, then a rename).
 
     Parameters
     ----------
     force : bool
         Replace an existing file; without it an existing file is an error.
-    comments, header
+    comments, header, digits
         As for :func:`dump_design`.
 
     Raises
@@ -311,7 +405,8 @@ def save_design(design: Design, path: str | os.PathLike, *, force: bool = False,
     if not os.path.isdir(folder):
         raise UserError(f"no folder {folder!r}: expected the design file in an existing folder",
                         file)
-    text = dump_design(design, comments=comments, header=header, base_dir=folder)
+    text = dump_design(design, comments=comments, header=header, base_dir=folder,
+                       digits=digits)
     try:
         fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{os.path.basename(file)}.",
                                    suffix=".tmp")

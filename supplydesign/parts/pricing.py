@@ -40,6 +40,10 @@ class DemoPriceModel:
 
     - price per piece = ``res_base + res_per_watt * P``
     - maximum element voltage = ``res_volts_per_sqrt_watt * sqrt(P)`` [V]
+
+    Ratings the model computes (ESR, ripple current, element voltage) are stated
+    to ``rating_figures`` significant figures, as a data sheet states them, so a
+    design file that names such a part reads "1.7 A", not "1.70411267233126 A".
     """
 
     currency: str = "EUR"
@@ -53,6 +57,11 @@ class DemoPriceModel:
     res_per_watt: float = 0.09
     res_volts_per_sqrt_watt: float = 350.0
     res_powers_w: tuple[float, ...] = (0.5, 1.0, 2.0, 3.0, 5.0, 7.0, 10.0)
+    rating_figures: int = 3
+
+    def stated(self, x: float) -> float:
+        """A computed rating as a data sheet states it (``rating_figures`` figures)."""
+        return float(f"{x:.{self.rating_figures}g}")
 
 
 DEMO_PRICES = DemoPriceModel()
@@ -93,7 +102,8 @@ def eseries_capacitors(series: str = "E6", lo: float = 4.7e-6, hi: float = 470e-
     ripple = model.cap_ripple_k * np.sqrt(cc * vv)
     ids = [f"{series}-{_label(ci, 'F')}-{vi:g}V" for ci, vi in zip(cc, vv, strict=True)]
     rows = [{"part": i, "description": f"{series} value, demo price model",
-             "capacitance_f": ci, "voltage_rating_v": vi, "esr_ohm": ei, "ripple_rating_a": ri,
+             "capacitance_f": ci, "voltage_rating_v": vi, "esr_ohm": model.stated(ei),
+             "ripple_rating_a": model.stated(ri),
              "tolerance": model.cap_tolerance, "price": round(pi, 2),
              "currency": model.currency, "source": "model"}
             for i, ci, vi, ei, ri, pi in zip(ids, cc, vv, esr, ripple, price, strict=True)]
@@ -103,7 +113,8 @@ def eseries_capacitors(series: str = "E6", lo: float = 4.7e-6, hi: float = 470e-
 def model_resistor_classes(model: DemoPriceModel = DEMO_PRICES) -> dict[str, np.ndarray]:
     """The model's resistor power classes, with the keys of ``Catalog.table("resistor")``."""
     rows = [{"part": f"MODEL-{_label(p, 'W')}", "description": "power class, demo price model",
-             "power_w": p, "max_voltage_v": model.res_volts_per_sqrt_watt * np.sqrt(p),
+             "power_w": p, "max_voltage_v": model.stated(model.res_volts_per_sqrt_watt
+                                                         * np.sqrt(p)),
              "price": round(model.res_base + model.res_per_watt * p, 2),
              "currency": model.currency, "source": "model"}
             for p in model.res_powers_w]

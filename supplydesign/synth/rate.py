@@ -19,6 +19,7 @@ from dataclasses import dataclass, replace
 
 from ..design import Capacitor, Design, Link, Rail
 from ..evaluation.figures import Figures
+from ..io.tomlwrite import readable
 from ..parts.rating import (
     MODEL_SOURCE,
     RATING_HZ,
@@ -289,7 +290,10 @@ def rate_evaluated(design: Design, pool: Pool, rules: RatingRules = RULES, *,
 
     Each pass evaluates the latest rated design (nominal and high mains, no
     load) and rates the original design against the worst stresses of every
-    pass so far, so the needs only rise and the choice settles.
+    pass so far, so the needs only rise and the choice settles. Every design is
+    taken as its written file will hold it (each value to the file's significant
+    figures, :func:`~supplydesign.io.tomlwrite.readable`), so the figures
+    returned are those of the file ``save_design`` writes.
 
     Returns
     -------
@@ -303,12 +307,14 @@ def rate_evaluated(design: Design, pool: Pool, rules: RatingRules = RULES, *,
     """
     from ..evaluation.analysis import evaluate
 
+    design = readable(design)
     current, seen = design, []
     for _ in range(passes):
         nominal = evaluate([current], steps=steps)[0]
         no_load = evaluate([current], high_mains_no_load(design), steps=steps)[0]
         seen += [nominal, no_load]
         rated = rate_design(design, nominal, no_load, pool, rules, extra=seen)
+        rated = replace(rated, design=readable(rated.design))
         if _parts(rated.design) == _parts(current):
             return rated, nominal, no_load
         current = rated.design

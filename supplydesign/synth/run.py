@@ -25,6 +25,7 @@ import numpy as np
 from ..circuit.netlist import OperatingCase
 from ..design import Design
 from ..evaluation.analysis import FigureArrays, evaluate_arrays
+from ..io.tomlwrite import readable
 from .score import OBJECTIVES, Scores, choose_capacitors, score
 from .space import KIND_CHOKE, KIND_RESISTOR, SearchSpace, build_space, decode, to_design
 
@@ -119,17 +120,19 @@ def _verify(space: SearchSpace, X: np.ndarray, steps: int):
 
     The resistor power classes do not change the circuit, so the designs are solved
     with a placeholder class, then scored, then rebuilt with the classes chosen from
-    the verified dissipation."""
+    the verified dissipation. Each design is taken as its file will hold it (every
+    value to the file's significant figures, :func:`~supplydesign.io.tomlwrite.readable`),
+    so the reported figures are those of the written file."""
     dec = decode(space, X)
     caprow, _ = choose_capacitors(space, dec)
     placeholder = {"capacitor": caprow,
                    "resistor_class": np.full(caprow.shape,
                                              int(np.argmax(space.resistor_classes["power_w"])))}
-    designs = [to_design(space, dec, j, placeholder) for j in range(len(X))]
+    designs = [readable(to_design(space, dec, j, placeholder)) for j in range(len(X))]
     full = evaluate_arrays(designs, steps=steps)
     idle = evaluate_arrays(designs, IDLE, steps=steps)
     verified = score(space, dec, caprow, full, idle)
-    designs = [to_design(space, dec, j, verified.parts()) for j in range(len(X))]
+    designs = [readable(to_design(space, dec, j, verified.parts())) for j in range(len(X))]
     return dec, verified, designs, full, idle
 
 
