@@ -210,6 +210,15 @@ def test_tolerance_forms(text, low, high, tmp_path):
     assert same(round_trip(d, tmp_path), d)
 
 
+def test_readable_file_rounds_a_tolerance_as_it_rounds_values(tmp_path):
+    cap = '{ capacitance = "22.3456 uF", tolerance = "-12.3456 % +50 %" }'
+    d = load_design(write(tmp_path, edited(S, cap)))
+    text = dump_design(d)
+    assert '"22.35 uF"' in text and '"-12.35 % +50 %"' in text
+    back = load_design(write(tmp_path, text, "r.toml"))
+    assert back == replace(readable(d), source=back.source)
+
+
 def test_spread_keys_on_every_part_and_round_trip(tmp_path):
     text = edited('tolerance = "10 %"', 'tolerance = "10 %"\ndistribution = "normal"')
     text = edited('rated_current = "250 mA"', 'rated_current = "250 mA"\ntolerance = "4 %"\n'

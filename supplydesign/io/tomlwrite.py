@@ -155,6 +155,11 @@ def _rounded(obj, digits: int):
               if spec.dimension in OUT_UNITS}
     new = {f: round_significant(getattr(obj, f), digits) for f in fields
            if isinstance(getattr(obj, f), float)}
+    for f in ("tolerance", "resistance_tolerance"):  # a part's spread, as tolerance_text writes it
+        tol = getattr(obj, f, None)
+        if isinstance(tol, Tolerance):
+            new[f] = Tolerance(round_significant(tol.low, digits),
+                               round_significant(tol.high, digits))
     return replace(obj, **new)
 
 
