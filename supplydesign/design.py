@@ -5,7 +5,8 @@ left open (see shared file contract, "One file for briefs and designs"). Open
 choices are marked by ``None`` values together with the ``open`` flags below, so
 one set of types serves both; :func:`Design.is_complete` tells them apart.
 
-Units: V, A, ohm, F, H, Hz, W, s; fractions (0.1 for 10 %).
+Units: V, A, ohm, F, H, Hz, W, s, m; fractions (0.1 for 10 %); temperatures in
+degrees Celsius (``_c``), a part's life in hours (``_h``), apparent power in VA.
 """
 
 from __future__ import annotations
@@ -23,6 +24,33 @@ DISTRIBUTIONS = ("uniform", "normal")
 SILICON_SATURATION_A = 5e-9
 SILICON_EMISSION = 1.8
 SILICON_SERIES_OHM = 0.05
+
+#: what a transformer's DC current rating assumes of the load ([transformer] rated_for)
+RATING_LOADS = ("capacitor input", "choke input")
+#: ambient temperature inside the chassis where the file states none [degC]
+DEFAULT_AMBIENT_C = 40.0
+#: hours of use per day where the file states none, as a share of the day
+DEFAULT_USE = 4.0 / 24.0
+
+
+@dataclass(frozen=True)
+class Chassis:
+    """Where the parts live: the air around them and how long the amplifier is on.
+
+    None means "not stated": the defaults above apply and reports say so.
+    """
+
+    ambient_c: float | None = None  # air around the parts [degC]
+    use: float | None = None  # share of the day the amplifier is on (4 h/day = 1/6)
+    min_life_h: float | None = None  # briefs: least estimated life of every electrolytic [h]
+
+    @property
+    def ambient(self) -> float:
+        return DEFAULT_AMBIENT_C if self.ambient_c is None else self.ambient_c
+
+    @property
+    def use_share(self) -> float:
+        return DEFAULT_USE if self.use is None else self.use
 
 
 @dataclass(frozen=True)
@@ -58,6 +86,11 @@ class Transformer:
     tolerance: Tolerance | None = None  # of the open-circuit voltage
     resistance_tolerance: Tolerance | None = None
     distribution: str = "uniform"
+    rated_for: str | None = None  # load the DC rating assumes (RATING_LOADS); None: capacitor
+    rated_rms_a: float | None = None  # rms current rating per half (whole winding if single)
+    rated_va: float | None = None  # apparent power rating of the whole HT winding [VA]
+    primary_v: float | None = None  # mains voltage the primary is wound for (nominal)
+    other_load_va: float | None = None  # other windings' load (heaters, bias) [VA]
     part: str | None = None  # catalog id, when taken from a catalog
     choose: tuple[str, ...] = ()  # brief: catalog ids to choose among
     price: float | None = None
@@ -112,6 +145,7 @@ class Link:
     resistance_ohm: float | None = None  # resistor value, or choke DCR
     inductance_h: float | None = None  # choke only
     power_w: float | None = None  # resistor power rating
+    upper_temperature_c: float | None = None  # resistor: upper category temperature [degC]
     current_rating_a: float | None = None  # choke DC current rating
     # spread among builds (None: catalog, E-series or a stated default)
     tolerance: Tolerance | None = None  # of the resistance, or of a choke's inductance
@@ -138,10 +172,14 @@ class Capacitor:
     capacitance_f: float | None = None  # None: to be chosen (briefs)
     esr_ohm: float = 0.0
     voltage_rating_v: float | None = None
-    ripple_rating_a: float | None = None
+    ripple_rating_a: float | None = None  # rms, 100 Hz, at the rated temperature
     # spread of the capacitance among builds (None: catalog, E-series or a stated default)
     tolerance: Tolerance | None = None
     distribution: str = "uniform"
+    rated_life_h: float | None = None  # endurance at the rated temperature [h]
+    rated_temperature_c: float | None = None  # upper category temperature [degC]
+    diameter_m: float | None = None  # can size, for its cooling surface
+    height_m: float | None = None
     part: str | None = None
     price: float | None = None
     currency: str | None = None
@@ -164,6 +202,8 @@ class Rail:
     bleeder_ohm: float | None = None
     # the stage draws nothing for this time after switch-on (its valves warm up)
     warm_up_s: float | None = None
+    # air around this rail's parts when it differs from the chassis' [degC]
+    ambient_c: float | None = None
     # brief targets (kept in designs so evaluate shows margins)
     voltage_v: float | None = None
     tolerance: float = 0.05
@@ -188,6 +228,12 @@ class Design:
     rails: tuple[Rail, ...]
     source: str = "<memory>"  # file it was read from, for messages
     catalog: str | None = None  # catalog directory named by the brief, if any
+    chassis: Chassis = field(default_factory=Chassis)
+
+    def ambient_c(self, i: int) -> float:
+        """Air temperature around rail i's parts [degC]: its own, else the chassis'."""
+        own = self.rails[i].ambient_c
+        return self.chassis.ambient if own is None else own
 
     def rail_index(self, name: str) -> int:
         for i, r in enumerate(self.rails):

@@ -23,7 +23,15 @@ DIMENSIONS: dict[str, tuple[str, str]] = {
     "power": ("watt", "a power such as '5 W'"),
     "time": ("second", "a time such as '30 s'"),
     "fraction": ("", "a percentage such as '10 %'"),
-    "temperature": ("kelvin", "a temperature such as '40 degC'"),
+    # temperatures are kept in degrees Celsius (the unit of the parts' data sheets and of
+    # IEC 60115-1 and IEC 60384-4), named ``_c``; differences of them in kelvin (``_k``)
+    "temperature": ("degC", "a temperature such as '40 degC'"),
+    "length": ("meter", "a length such as '35 mm'"),
+    # a part's life, kept in hours (``_h``), the unit of endurance ratings
+    "lifetime": ("hour", "a time such as '5000 h'"),
+    "apparent_power": ("volt_ampere", "an apparent power such as '60 VA'"),
+    # hours of use per day as a share of the day (4 h/day -> 1/6)
+    "duty": ("", "hours of use per day such as '4 h/day'"),
 }
 
 

@@ -17,10 +17,13 @@ from hypothesis import strategies as st
 
 from supplydesign.circuit.netlist import build
 from supplydesign.design import (
+    DEFAULT_AMBIENT_C,
+    DEFAULT_USE,
     SILICON_EMISSION,
     SILICON_SATURATION_A,
     SILICON_SERIES_OHM,
     Capacitor,
+    Chassis,
     Design,
     Link,
 )
@@ -175,6 +178,46 @@ def test_every_default(tmp_path):
     assert b.capacitor is None and a.capacitor.esr_ohm == 0.0
     assert a.capacitor.voltage_rating_v is None and b.link.power_w is None
     assert b.load_resistance_ohm is None
+
+
+HEAT = edited('rated_current = "250 mA"', 'rated_current = "250 mA"\nrated_for = "choke input"\n'
+              'rated_rms_current = "0.3 A"\nrated_power = "180 VA"\nprimary = "230 V"\n'
+              'other_load = "60 VA"')
+HEAT = edited("[[rail]]", '[chassis]\nambient = "45 degC"\nuse = "6 h/day"\n'
+              'min_life = "20000 h"\n\n[[rail]]', HEAT)
+HEAT = edited('voltage = "450 V" }', 'voltage = "450 V", rated_life = "2000 h", '
+              'rated_temperature = "105 degC", diameter = "35 mm", height = "50 mm" }', HEAT)
+HEAT = edited('power = "1 W" }', 'power = "1 W", upper_temperature = "155 degC" }', HEAT)
+HEAT = edited('current = "20 mA"', 'current = "20 mA"\nambient = "-5 degC"', HEAT)
+
+
+def test_heat_and_life_keys(tmp_path):
+    d = load_design(write(tmp_path, HEAT))
+    assert d.chassis == Chassis(ambient_c=45.0, use=pytest.approx(0.25), min_life_h=20000.0)
+    tr = d.transformer
+    assert (tr.rated_for, tr.rated_rms_a, tr.rated_va, tr.primary_v, tr.other_load_va) == (
+        "choke input", 0.3, 180.0, 230.0, 60.0)
+    plates, screens, preamp = d.rails
+    cap = plates.capacitor
+    assert (cap.rated_life_h, cap.rated_temperature_c) == (2000.0, 105.0)
+    assert (cap.diameter_m, cap.height_m) == (0.035, 0.05)
+    assert preamp.link.upper_temperature_c == 155.0
+    assert [d.ambient_c(i) for i in range(3)] == [45.0, -5.0, 45.0]
+    assert same(round_trip(d, tmp_path), d)
+
+
+def test_heat_and_life_defaults(tmp_path):
+    d = load_design(write(tmp_path, BASE))
+    assert d.chassis == Chassis()
+    assert d.ambient_c(0) == DEFAULT_AMBIENT_C and d.chassis.use_share == DEFAULT_USE
+    assert "[chassis]" not in dump_design(d)
+
+
+def test_chosen_transformer_keeps_other_load(tmp_path):
+    text = edited(TRANSFORMER, '[transformer]\nchoose = ["T1", "T2"]\nother_load = "45 VA"\n\n')
+    d = load_design(write(tmp_path, text), brief=True)
+    assert d.transformer.choose == ("T1", "T2") and d.transformer.other_load_va == 45.0
+    assert same(round_trip(d, tmp_path, brief=True), d)
 
 
 def test_mains_low_high_and_bare_emission(tmp_path):
@@ -692,6 +735,23 @@ MALFORMED = [
     ("mains-distribution", 'tolerance = "10 %"', 'tolerance = "10 %"\ndistribution = "flat"',
      "mains.distribution", '"uniform" or "normal"'),
     ("missing-frequency", 'frequency = "50 Hz"\n', "", "mains.frequency", "60 Hz"),
+    ("ambient-in-volts", "[[rail]]", '[chassis]\nambient = "45 V"\n[[rail]]', "chassis.ambient",
+     "temperature"),
+    ("ambient-absurd", "[[rail]]", '[chassis]\nambient = "300 degC"\n[[rail]]',
+     "chassis.ambient", "at most 150 degC"),
+    ("chassis-unknown-key", "[[rail]]", '[chassis]\nambiant = "45 degC"\n[[rail]]',
+     "chassis.ambiant", "did you mean 'ambient'"),
+    ("use-in-hours", "[[rail]]", '[chassis]\nuse = "4 h"\n[[rail]]', "chassis.use", "h/day"),
+    ("use-over-a-day", "[[rail]]", '[chassis]\nuse = "30 h/day"\n[[rail]]', "chassis.use",
+     "at most 24 h/day"),
+    ("life-in-volts", S, '{ capacitance = "22 uF", rated_life = "2000 V" }',
+     f"{TR}.capacitor.rated_life", "5000 h"),
+    ("rated-for-word", 'rated_current = "250 mA"', 'rated_current = "250 mA"\nrated_for = "cap"',
+     "transformer.rated_for", '"capacitor input" or "choke input"'),
+    ("rail-ambient-bare", 'current = "20 mA"', 'current = "20 mA"\nambient = 45',
+     f"{TR}.ambient", "bare number"),
+    ("other-key-beside-choose", TRANSFORMER, '[transformer]\nchoose = ["T1"]\nresistance = '
+     '"95 ohm"\n\n', "transformer.resistance", "alone (and other_load)"),
 ]
 
 

@@ -244,8 +244,11 @@ def fields(cls) -> set[str]:
 def test_get_capacitor_builds_the_dataclass():
     got = load_catalog().get("capacitor", "CAP-47U-450")
     assert set(got) == {"capacitance_f", "esr_ohm", "voltage_rating_v", "ripple_rating_a",
+                        "diameter_m", "height_m", "rated_life_h", "rated_temperature_c",
                         "price", "currency", "part"}
     cap = Capacitor(**got)
+    assert (cap.diameter_m, cap.height_m) == (0.018, 0.035)
+    assert (cap.rated_life_h, cap.rated_temperature_c) == (2000.0, 105.0)
     assert cap.capacitance_f == 47e-6
     assert cap.ripple_rating_a == pytest.approx(0.56)
     assert (cap.voltage_rating_v, cap.esr_ohm, cap.part, cap.currency) == (
@@ -259,7 +262,7 @@ def test_get_choke_and_resistor_build_links():
     assert choke.current_rating_a == pytest.approx(0.150)
     assert not choke.is_open
     res = cat.get("resistor", "RES-5W")
-    assert set(res) == {"kind", "power_w", "price", "currency", "part"}
+    assert set(res) == {"kind", "power_w", "upper_temperature_c", "price", "currency", "part"}
     link = Link(**res)
     assert (link.kind, link.power_w) == ("resistor", 5.0)
     assert link.is_open  # the resistance value is chosen apart from the power class
@@ -268,7 +271,8 @@ def test_get_choke_and_resistor_build_links():
 def test_get_transformer():
     got = load_catalog().get("transformer", "TRF-CT-2X350-200")
     assert set(got) == {"winding", "open_circuit_v", "resistance_ohm", "leakage_h",
-                        "rated_current_a", "price", "currency", "part"}
+                        "rated_current_a", "rated_for", "rated_rms_a", "rated_va", "primary_v",
+                        "price", "currency", "part"}
     trf = Transformer(**got)
     assert (trf.winding, trf.open_circuit_v, trf.resistance_ohm) == ("center-tapped", 350.0, 95.0)
     assert trf.leakage_h == pytest.approx(8e-3)
@@ -325,6 +329,30 @@ def test_header_units_are_converted(tmp_path):
     assert got["capacitance_f"] == 47e-6
     assert got["voltage_rating_v"] == 450.0
     assert got["ripple_rating_a"] == 0.56
+
+
+@pytest.mark.parametrize("unit, cell, want_c", [("degC", "105", 105.0), ("K", "358.15", 85.0),
+                                                ("degF", "221", 105.0)])
+def test_temperature_columns_convert_with_their_offset(tmp_path, unit, cell, want_c):
+    header = CAP_HEADER + f",rated life [h],rated temperature [{unit}]"
+    write(tmp_path, {"capacitors.csv": cap_file(f"{CAP_ROW},2000,{cell}", header=header)})
+    got = load_catalog(tmp_path).get("capacitor", "CAP-T1")
+    assert got["rated_temperature_c"] == pytest.approx(want_c, abs=1e-9)
+    assert got["rated_life_h"] == 2000.0
+
+
+def test_transformer_rating_columns(tmp_path):
+    header = TRF_HEADER.replace("rated current [mA]", "rated rms current [A],rated for,"
+                                                      "rated power [VA]")
+    write(tmp_path, {"transformers.csv": "\n".join([
+        header, "TRF-T1,x,single,350,95,,0.4,choke input,140,54,EUR"])})
+    got = load_catalog(tmp_path).get("transformer", "TRF-T1")
+    assert (got["rated_rms_a"], got["rated_for"], got["rated_va"]) == (0.4, "choke input", 140.0)
+    assert got["rated_current_a"] is None
+    write(tmp_path, {"transformers.csv": "\n".join([
+        header, "TRF-T1,x,single,350,95,,0.4,cap input,140,54,EUR"])})
+    with pytest.raises(UserError, match="capacitor input, choke input"):
+        load_catalog(tmp_path)
 
 
 def test_header_order_and_case_are_free(tmp_path):

@@ -26,13 +26,22 @@ def q(value: float, dimension: str) -> str:
     return f'"{format_quantity(value, dimension)}"'
 
 
+def optional(r: dict, keys) -> list[str]:
+    """``key = "value"`` for the optional columns the row fills: (key, field, dimension)."""
+    return [f"{key} = {q(r[field], dim)}" for key, field, dim in keys if r[field] is not None]
+
+
 def transformer_values(part: str) -> str:
     r = CATALOG.row("transformer", part)
     return "\n".join([
         f'winding = "{r["winding"]}"', f"open_circuit = {q(r['open_circuit_v'], 'voltage')}",
         f"resistance = {q(r['resistance_ohm'], 'resistance')}",
         f"leakage = {q(r['leakage_h'], 'inductance')}",
-        f"rated_current = {q(r['rated_current_a'], 'current')}"])
+        *optional(r, (("rated_current", "rated_current_a", "current"),
+                      ("rated_rms_current", "rated_rms_a", "current"),
+                      ("rated_power", "rated_va", "apparent_power"),
+                      ("primary", "primary_v", "voltage"))),
+        *([f'rated_for = "{r["rated_for"]}"'] if r["rated_for"] else [])])
 
 
 def rectifier_values(part: str) -> str:
@@ -60,7 +69,11 @@ def capacitor_values(part: str) -> str:
     return (f"{{ capacitance = {q(r['capacitance_f'], 'capacitance')}, "
             f"esr = {q(r['esr_ohm'], 'resistance')}, "
             f"voltage = {q(r['voltage_rating_v'], 'voltage')}, "
-            f"ripple_rating = {q(r['ripple_rating_a'], 'current')} }}")
+            f"ripple_rating = {q(r['ripple_rating_a'], 'current')}"
+            + "".join(f", {x}" for x in optional(r, (
+                ("diameter", "diameter_m", "length"), ("height", "height_m", "length"),
+                ("rated_life", "rated_life_h", "lifetime"),
+                ("rated_temperature", "rated_temperature_c", "temperature")))) + " }")
 
 
 def choke_values(part: str) -> str:
@@ -72,7 +85,8 @@ def choke_values(part: str) -> str:
 
 def resistor_values(part: str) -> str:
     r = CATALOG.row("resistor", part)
-    return f'{{ kind = "resistor", resistance = "4.7 kohm", power = {q(r["power_w"], "power")} }}'
+    return (f'{{ kind = "resistor", resistance = "4.7 kohm", power = {q(r["power_w"], "power")}, '
+            f'upper_temperature = {q(r["upper_temperature_c"], "temperature")} }}')
 
 
 def design_text(parts: dict[str, str], by_id: bool) -> str:

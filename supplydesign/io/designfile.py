@@ -25,9 +25,11 @@ from typing import Any, Protocol
 from ..design import (
     ARRANGEMENTS,
     DISTRIBUTIONS,
+    RATING_LOADS,
     RECTIFIER_KINDS,
     WINDINGS,
     Capacitor,
+    Chassis,
     Design,
     Link,
     Mains,
@@ -59,6 +61,7 @@ class Quantity:
     low: float | None = None  # inclusive bounds beyond the per-dimension ones
     high: float | None = None
     example: str | None = None  # shown when the key is missing; default from units.DIMENSIONS
+    signed: bool = False  # True: any sign (a temperature in degC); the bounds still apply
 
 
 #: largest believable magnitude per dimension (SI); beyond it a value is a typo
@@ -71,6 +74,9 @@ MAGNITUDE_LIMIT = {
     "frequency": (1e4, "10 kHz"),
     "power": (1e5, "100 kW"),
     "time": (3600.0, "1 h"),
+    "length": (1.0, "1 m"),
+    "lifetime": (1e7, "10 000 000 h"),
+    "apparent_power": (1e5, "100 kVA"),
 }
 
 MAINS_KEYS = {
@@ -84,7 +90,15 @@ TRANSFORMER_KEYS = {
     "resistance": Quantity("resistance_ohm", "resistance", positive=False, example="95 ohm"),
     "leakage": Quantity("leakage_h", "inductance", positive=False),
     "rated_current": Quantity("rated_current_a", "current"),
+    "rated_rms_current": Quantity("rated_rms_a", "current"),
+    "rated_power": Quantity("rated_va", "apparent_power", example="90 VA"),
+    "primary": Quantity("primary_v", "voltage", example="230 V"),
+    "other_load": Quantity("other_load_va", "apparent_power", positive=False),
 }
+#: keys a [transformer] that chooses among catalog parts may give beside ``choose``
+CHOOSE_WITH = ("other_load",)
+#: text keys of [transformer] beside ``winding``: key -> (field, allowed words)
+TRANSFORMER_TEXT_KEYS = {"rated_for": ("rated_for", RATING_LOADS)}
 VALVE_KEYS = {
     "drop": Quantity("drop_v", "voltage", example="17 V"),
     "drop_current": Quantity("drop_current_a", "current", example="250 mA"),
@@ -102,9 +116,12 @@ RECTIFIER_LIMIT_KEYS = {
     # not a limit: the time from switch-on until the rectifier conducts
     "warm_up": Quantity("warm_up_s", "time", positive=False, example="10 s"),
 }
+#: temperatures a part's data sheet may state [degC]
+PART_TEMPERATURE = {"low": 40.0, "high": 400.0, "example": "105 degC"}
 RESISTOR_KEYS = {
     "resistance": Quantity("resistance_ohm", "resistance"),
     "power": Quantity("power_w", "power"),
+    "upper_temperature": Quantity("upper_temperature_c", "temperature", **PART_TEMPERATURE),
 }
 CHOKE_KEYS = {
     "inductance": Quantity("inductance_h", "inductance"),
@@ -116,6 +133,18 @@ CAPACITOR_KEYS = {
     "esr": Quantity("esr_ohm", "resistance", positive=False),
     "voltage": Quantity("voltage_rating_v", "voltage"),
     "ripple_rating": Quantity("ripple_rating_a", "current"),
+    "rated_life": Quantity("rated_life_h", "lifetime", example="2000 h"),
+    "rated_temperature": Quantity("rated_temperature_c", "temperature", **PART_TEMPERATURE),
+    "diameter": Quantity("diameter_m", "length"),
+    "height": Quantity("height_m", "length"),
+}
+#: the air around the parts: [chassis] ambient and a rail's own ambient [degC]
+AMBIENT = Quantity("ambient_c", "temperature", signed=True, low=-40.0, high=150.0,
+                   example="45 degC")
+CHASSIS_KEYS = {
+    "ambient": AMBIENT,
+    "use": Quantity("use", "duty", high=1.0),
+    "min_life": Quantity("min_life_h", "lifetime", example="20000 h"),
 }
 RAIL_KEYS = {
     "current": Quantity("current_a", "current", positive=False),
@@ -126,6 +155,7 @@ RAIL_KEYS = {
     "hum": Quantity("hum_v", "voltage"),
     "bleeder": Quantity("bleeder_ohm", "resistance", example="220 kohm"),
     "warm_up": Quantity("warm_up_s", "time", positive=False, example="15 s"),
+    "ambient": AMBIENT,
 }
 #: keys any catalog-able part may carry: its id and its price (a bare number, dimensionless)
 PRICE_KEYS = {"price": Quantity("price", "number", positive=False)}
@@ -145,7 +175,7 @@ TOLERANCE_EXAMPLE = 'a tolerance such as "20 %" or, asymmetric, "-10 % +50 %"'
 CHOICE_KEYS = {"winding": WINDINGS, "kind": RECTIFIER_KINDS, "arrangement": ARRANGEMENTS}
 ALL_QUANTITY_KEYS = (TRANSFORMER_KEYS, VALVE_KEYS, RESISTOR_KEYS, CHOKE_KEYS, CAPACITOR_KEYS)
 
-TOP_KEYS = ("title", "catalog", "mains", "transformer", "rectifier", "rail")
+TOP_KEYS = ("title", "catalog", "mains", "transformer", "rectifier", "chassis", "rail")
 RAIL_OTHER_KEYS = ("name", "from", "link", "capacitor")
 LINK_CHOICES = ("resistor", "choke")  # kinds a "choose" link may pick among (+ wire, first rail)
 
@@ -323,9 +353,11 @@ class _Reader:
         else:
             number = parse_quantity(value, dim, file=self.file, key=key)
             word, shown = DIMENSIONS[dim][1].split(" such as ")[0], repr(value)
-        if spec.positive and number <= 0:
+        if spec.signed:
+            pass
+        elif spec.positive and number <= 0:
             raise self.fail(key, f"expected a positive {word.split(' ', 1)[-1]}, got {shown}")
-        if not spec.positive and number < 0:
+        elif not spec.positive and number < 0:
             raise self.fail(key, f"expected {word} of zero or more, got {shown}")
         limit = MAGNITUDE_LIMIT.get(dim)
         if limit is not None and abs(number) > limit[0]:
@@ -356,7 +388,10 @@ class _Reader:
     def bound(value: float, dim: str) -> str:
         if dim == "fraction":
             return f"{value * 100:g} %"
-        unit = {"number": "", "frequency": " Hz", "current": " A"}.get(dim, "")
+        if dim == "duty":
+            return f"{value * 24:g} h/day"
+        unit = {"number": "", "frequency": " Hz", "current": " A",
+                "temperature": " degC"}.get(dim, "")
         return f"{value:g}{unit}"
 
     def tolerance(self, value: Any, key: str) -> Tolerance:
@@ -483,7 +518,14 @@ class _Reader:
             self.check_arrangement(tr, rect)
         rails = self.rails(table)
         return Design(title=title, mains=mains, transformer=tr, rectifier=rect, rails=rails,
-                      source=self.file, catalog=_catalog_setting(table, self.file))
+                      source=self.file, catalog=_catalog_setting(table, self.file),
+                      chassis=self.chassis(table.get("chassis", {})))
+
+    def chassis(self, t: Any) -> Chassis:
+        if not isinstance(t, dict):
+            raise self.fail("chassis", 'expected a [chassis] table such as ambient = "45 degC"')
+        self.keys(t, CHASSIS_KEYS, "chassis")
+        return Chassis(**self.quantities(t, CHASSIS_KEYS, "chassis"))
 
     def mains(self, t: dict) -> Mains:
         self.keys(t, (*MAINS_KEYS, "distribution"), "mains")
@@ -512,13 +554,20 @@ class _Reader:
     def transformer(self, t: dict) -> tuple[Transformer, bool]:
         where = "transformer"
         self.keys(t, ("winding", "choose", *TRANSFORMER_KEYS, *RESISTANCE_SPREAD_KEYS,
-                      *PART_KEYS), where)
+                      *TRANSFORMER_TEXT_KEYS, *PART_KEYS), where)
         if "choose" in t:
-            return Transformer(choose=self.choose(t, where, "transformer")), False
+            # the amplifier's other load stays the same whichever transformer is chosen
+            load = {k: TRANSFORMER_KEYS[k] for k in CHOOSE_WITH}
+            return Transformer(choose=self.choose(t, where, "transformer", CHOOSE_WITH),
+                               **self.quantities(t, load, where)), False
         values, part = self.part_fields(t, "transformer", Transformer, where)
         winding = self.text(t, "winding", where, choices=WINDINGS)
         if winding is not None:
             values["winding"] = winding
+        for key, (name, choices) in TRANSFORMER_TEXT_KEYS.items():
+            word = self.text(t, key, where, choices=choices)
+            if word is not None:
+                values[name] = word
         values.update(self.quantities(t, TRANSFORMER_KEYS, where))
         values.update(self.spread(t, where))
         self.require(values, {"winding": "winding", "open_circuit_v": "open_circuit",
@@ -528,11 +577,13 @@ class _Reader:
                                              f"{values['winding']!r}")
         return Transformer(**values), "winding" in values
 
-    def choose(self, t: dict, where: str, family: str) -> tuple[str, ...]:
-        if len(t) > 1:
-            other = next(k for k in t if k != "choose")
-            raise self.fail(f"{where}.{other}", f"expected choose = [...] alone in [{where}] "
-                                                "(the candidates come from the catalog)")
+    def choose(self, t: dict, where: str, family: str, beside=()) -> tuple[str, ...]:
+        other = [k for k in t if k != "choose" and k not in beside]
+        if other:
+            also = f" (and {', '.join(beside)})" if beside else ""
+            raise self.fail(f"{where}.{other[0]}", f"expected choose = [...] alone{also} in "
+                                                   f"[{where}] (the candidates come from the "
+                                                   "catalog)")
         ids = self.id_list(t["choose"], f"{where}.choose", family)
         self.still_open(f"{where}.choose", f"the {family}")
         return ids

@@ -38,7 +38,9 @@ from ..design import (
 from ..errors import UserError
 from .designfile import (
     CAPACITOR_KEYS,
+    CHASSIS_KEYS,
     CHOKE_KEYS,
+    CHOOSE_WITH,
     LINK_CHOICES,
     MAINS_KEYS,
     PRICE_KEYS,
@@ -47,6 +49,7 @@ from .designfile import (
     RESISTOR_KEYS,
     SILICON_KEYS,
     TRANSFORMER_KEYS,
+    TRANSFORMER_TEXT_KEYS,
     VALVE_KEYS,
     Quantity,
 )
@@ -68,6 +71,11 @@ OUT_UNITS: dict[str, tuple[tuple[str, float], ...]] = {
     "power": (("W", 1.0), ("kW", 1e3)),
     "time": (("ms", 1e-3), ("s", 1.0)),
     "fraction": (("%", 1e-2),),
+    "temperature": (("degC", 1.0),),
+    "length": (("mm", 1e-3),),
+    "lifetime": (("h", 1.0),),
+    "apparent_power": (("VA", 1.0), ("kVA", 1e3)),
+    "duty": (("h/day", 1.0 / 24.0),),
 }
 SILICON_DEFAULTS = {"saturation_current_a": SILICON_SATURATION_A,
                     "emission": SILICON_EMISSION,
@@ -220,10 +228,11 @@ def _part_pairs(obj) -> tuple[list[str], list[str]]:
     return head, tail
 
 
-def _part_body(obj, body: list[str]) -> list[str]:
-    """Lines of a transformer or rectifier section: ``choose = [...]`` or part and values."""
+def _part_body(obj, body: list[str], beside: list[str] = ()) -> list[str]:
+    """Lines of a transformer or rectifier section: ``choose = [...]`` (and the lines
+    ``beside`` it) or part and values."""
     if obj.choose:
-        return ["choose = [" + ", ".join(_string(c) for c in obj.choose) + "]"]
+        return ["choose = [" + ", ".join(_string(c) for c in obj.choose) + "]", *beside]
     head, tail = _part_pairs(obj)
     return [*head, *body, *tail]
 
@@ -367,7 +376,11 @@ def dump_design(design: Design, *, comments: Mapping[str, str] | None = None,
     body = [] if tr.part is not None and tr.open_circuit_v is None \
         else [f"winding = {_string(tr.winding)}"]  # not for a part the catalog did not fill
     body += _pairs(tr, TRANSFORMER_KEYS, skip={"leakage_h": 0.0}) + _spread_pairs(tr)
-    out += ["", *_comment(comments.get("[transformer]")), "[transformer]", *_part_body(tr, body)]
+    body += [f"{key} = {_string(getattr(tr, name))}"
+             for key, (name, _) in TRANSFORMER_TEXT_KEYS.items() if getattr(tr, name)]
+    beside = _pairs(tr, {k: TRANSFORMER_KEYS[k] for k in CHOOSE_WITH})
+    out += ["", *_comment(comments.get("[transformer]")), "[transformer]",
+            *_part_body(tr, body, beside)]
 
     rect = design.rectifier
     body = [f"kind = {_string(rect.kind)}", f"arrangement = {_string(rect.arrangement)}"]
@@ -377,6 +390,10 @@ def dump_design(design: Design, *, comments: Mapping[str, str] | None = None,
         body += _pairs(rect, SILICON_KEYS, skip=SILICON_DEFAULTS)
     body += _pairs(rect, RECTIFIER_LIMIT_KEYS)
     out += ["", *_comment(comments.get("[rectifier]")), "[rectifier]", *_part_body(rect, body)]
+
+    chassis = _pairs(design.chassis, CHASSIS_KEYS)
+    if chassis:
+        out += ["", "[chassis]", *chassis]
 
     previous = None
     for rail in design.rails:

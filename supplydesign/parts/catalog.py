@@ -94,14 +94,17 @@ def _records(path: Path):
         yield number, [c.strip() for c in cells]
 
 
-def _unit_scale(col: Column, unit: str | None, where: str, label: str) -> float:
-    """Factor from the header's unit to the column's SI unit, checking the dimension."""
+def _unit_scale(col: Column, unit: str | None, where: str,
+                label: str) -> tuple[float, float]:
+    """(factor, offset) from the header's unit to the column's SI unit: SI = cell * factor
+    + offset (the offset is zero but for temperatures in degC or degF); checks the
+    dimension."""
     if col.si_unit is TEXT or not col.unit:
         if unit is not None:
             what = "text" if col.si_unit is TEXT else "a plain number"
             raise UserError(f"expected no unit in brackets (the column holds {what})",
                             where, f"column '{label}'")
-        return 1.0
+        return 1.0, 0.0
     if not unit:
         raise UserError(f"expected a unit in brackets, such as '{col.header}'",
                         where, f"column '{label}'")
@@ -109,7 +112,8 @@ def _unit_scale(col: Column, unit: str | None, where: str, label: str) -> float:
 
     ureg = registry()
     try:
-        return float(ureg.Quantity(1.0, unit).to(col.si_unit).magnitude)
+        zero = float(ureg.Quantity(0.0, unit).to(col.si_unit).magnitude)
+        return float(ureg.Quantity(1.0, unit).to(col.si_unit).magnitude) - zero, zero
     except Exception:
         raise UserError(f"expected a unit convertible to {col.si_unit}, such as "
                         f"'{col.header}', got '{unit}'", where, f"column '{label}'") from None
@@ -139,7 +143,8 @@ def _header(fam: Family, cells: list[str], path: Path, number: int):
     return layout
 
 
-def _cell(col: Column, text: str, scale: float, kind: str | None, where: str, label: str):
+def _cell(col: Column, text: str, scale: tuple[float, float], kind: str | None, where: str,
+          label: str):
     """Validate one cell; return its SI value, text, or None (empty optional)."""
     key = f"column '{label}'"
     if not col.applies(kind):
@@ -168,7 +173,8 @@ def _cell(col: Column, text: str, scale: float, kind: str | None, where: str, la
     if number < 0:
         raise UserError(f"expected a number of zero or more{unit}, got '{text}'", where, key)
     # 15 significant figures drop the binary noise of the unit factor (60 * 1e-6).
-    return float(f"{number * scale:.15g}")
+    factor, offset = scale
+    return float(f"{number * factor + offset:.15g}")
 
 
 def _text_cell(col: Column, text: str, where: str, key: str) -> str:
@@ -223,7 +229,7 @@ def read_family_file(path: str | Path, fam: Family) -> list[Part]:
                                                                                     strict=True)}
         values = {}
         for col in fam.columns:
-            cell, scale, label = given.get(col.name, ("", 1.0, col.name))
+            cell, scale, label = given.get(col.name, ("", (1.0, 0.0), col.name))
             values[col.key] = _cell(col, cell, scale, kind, where, label)
         part_id = values["part"]
         if part_id in first_line:

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from ..design import RECTIFIER_KINDS, WINDINGS
+from ..design import RATING_LOADS, RECTIFIER_KINDS, WINDINGS
 
 # ISO 4217 codes a catalog may use (a short list; extend when needed).
 CURRENCIES = ("AUD", "CAD", "CHF", "CNY", "CZK", "DKK", "EUR", "GBP", "HUF", "JPY",
@@ -114,8 +114,10 @@ CAPACITOR = Family("capacitor", "capacitors.csv", _common(
     Column("esr", "esr_ohm", "ohm", "ohm", sign="nonnegative"),
     Column("ripple current at 100 hz", "ripple_rating_a", "ampere", "mA"),
     _tolerance(),  # of the capacitance
-    Column("diameter", "diameter_m", "meter", "mm", required=False, field=False),
-    Column("height", "height_m", "meter", "mm", required=False, field=False),
+    Column("diameter", "diameter_m", "meter", "mm", required=False),
+    Column("height", "height_m", "meter", "mm", required=False),
+    Column("rated life", "rated_life_h", "hour", "h", required=False),
+    Column("rated temperature", "rated_temperature_c", "degC", "degC", required=False),
 ))
 
 CHOKE = Family("choke", "chokes.csv", _common(
@@ -132,6 +134,7 @@ RESISTOR = Family("resistor", "resistors.csv", _common(
     Column("min resistance", "min_resistance_ohm", "ohm", "ohm", required=False, field=False),
     Column("max resistance", "max_resistance_ohm", "ohm", "ohm", required=False, field=False),
     _tolerance(),  # of the resistance
+    Column("upper temperature", "upper_temperature_c", "degC", "degC", required=False),
 ), fixed={"kind": "resistor"})
 
 TRANSFORMER = Family("transformer", "transformers.csv", _common(
@@ -140,9 +143,12 @@ TRANSFORMER = Family("transformer", "transformers.csv", _common(
     Column("resistance", "resistance_ohm", "ohm", "ohm"),
     Column("leakage", "leakage_h", "henry", "mH", required=False, sign="nonnegative",
            default=0.0),
-    Column("rated current", "rated_current_a", "ampere", "mA"),
+    Column("rated current", "rated_current_a", "ampere", "mA", required=False),
+    Column("rated for", "rated_for", choices=RATING_LOADS, required=False),
+    Column("rated rms current", "rated_rms_a", "ampere", "mA", required=False),
+    Column("rated power", "rated_va", "volt_ampere", "VA", required=False),
     _tolerance(),  # of the open-circuit voltage
-    Column("primary", "primary_v", "volt", "V", required=False, field=False),
+    Column("primary", "primary_v", "volt", "V", required=False),
     Column("mass", "mass_kg", "kilogram", "kg", required=False, field=False),
 ))
 
