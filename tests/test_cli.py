@@ -35,9 +35,29 @@ def test_evaluate_several_files_writes_an_array_in_order(tmp_path):
     data = json.loads(out.read_text())
     assert isinstance(data, list) and len(data) == len(EXAMPLES)
     from supplydesign.io.designfile import load_design
+    from supplydesign.parts.fuses import RATINGS_A
 
     for obj, path in zip(data, EXAMPLES, strict=True):
         assert [r["name"] for r in obj["rails"]] == [r.name for r in load_design(path).rails]
+        # heat, life and fuses (shared/FORMAT.md, "evaluate --json: heat, life, fuses")
+        for rail in obj["rails"]:
+            cap = rail["capacitor"]
+            assert cap["ripple_rms_a"] == rail["capacitor_ripple_rms_a"]
+            assert cap["temperature_rise_k"] >= 0 and cap["life_h"] > 0  # the examples give both
+        assert obj["fuses"]["ht_a"] in RATINGS_A and obj["fuses"]["mains_a"] in RATINGS_A
+        assert obj["fuses"]["surge_checked"] and "local" in obj["fuses"]["caution"]
+
+
+def test_evaluate_console_shows_heat_life_and_fuses_at_80_columns(capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "80")
+    assert main(["evaluate", *map(str, EXAMPLES), "--nominal-only"]) == 0
+    out = capsys.readouterr().out
+    assert max(len(line) for line in out.splitlines()) <= 80
+    assert out.count("Capacitors at full signal") == len(EXAMPLES)
+    assert out.count("HT fuse: at least") == len(EXAMPLES)  # no switch-on run: rms only
+    assert out.count("Mains fuse:") == len(EXAMPLES)
+    assert out.count("fuse maker's data") == len(EXAMPLES)
+    assert re.search(r"\d[\d ]* h, (>15|\d+\.\d) y", out)  # a life in hours and years
 
 
 def test_existing_output_is_not_overwritten_without_force(tmp_path, capsys):

@@ -12,7 +12,7 @@ from report_support import small_run
 
 from supplydesign.cli import main
 from supplydesign.io.designfile import load_design
-from supplydesign.report.bom import COLUMNS, bom_csv, bom_lines, bom_totals
+from supplydesign.report.bom import COLUMNS, BomFuses, bom_csv, bom_lines, bom_totals
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLE = ROOT / "examples" / "pushpull-choke.toml"
@@ -44,7 +44,22 @@ def test_every_rail_part_is_listed_once():
                                                  if r.link.kind != "wire"]
     choke = next(b for b in links if b.kind == "choke")
     assert choke.value == "5 H; 120 ohm DCR" and choke.rating == "100 mA DC"
-    assert caps[0].value.startswith("100 uF") and caps[0].rating == "550 V"
+    assert caps[0].value.startswith("100 uF")
+    assert caps[0].rating == "550 V; ripple 1.3 A; 3000 h at 105 degC"
+
+
+def test_fuses_close_the_list_unpriced():
+    d = load_design(EXAMPLE)
+    checked = BomFuses(ht_a=0.63, mains_a=1.25, ht_position="in the centre-tap lead",
+                       primary_v=230.0, surge_checked=True)
+    lines = bom_lines(d, checked)
+    f1, f2 = lines[-2:]
+    assert (f1.ref, f1.kind, f1.value, f1.rating) == ("F1", "fuse", "1.25 A T", "time-lag (T)")
+    assert (f2.ref, f2.value) == ("F2", "630 mA T") and "centre-tap" in f2.description
+    assert f1.unit_price is None and f2.unit_price is None
+    assert lines[:-2] == bom_lines(d)
+    rough = bom_lines(d, replace(checked, surge_checked=False))[-1]
+    assert "at least" in rough.rating and "not checked" in rough.rating
 
 
 def test_unpriced_parts_are_counted_not_priced_as_zero():
@@ -84,10 +99,14 @@ def test_bom_command_writes_csv_and_keeps_an_existing_file(tmp_path, capsys):
     assert main(["bom", str(EXAMPLE), "--out", str(out)]) == 0
     rows = _rows(out.read_text())
     assert rows and all(r["design"] == EXAMPLE.name for r in rows)
+    fuses = {r["ref"]: r for r in rows if r["kind"] == "fuse"}
+    assert set(fuses) == {"F1", "F2"} and fuses["F2"]["value"].endswith(" T")
     assert main(["bom", str(EXAMPLE), "--out", str(out)]) == 2
     assert "--force" in capsys.readouterr().err
-    assert main(["bom", str(EXAMPLE)]) == 0
-    assert capsys.readouterr().out == out.read_text()
+    assert main(["bom", str(EXAMPLE), "--no-fuses"]) == 0
+    bare = _rows(capsys.readouterr().out)
+    assert [r for r in bare if r["kind"] != "total"] == [r for r in rows
+                                                         if r["kind"] not in ("fuse", "total")]
 
 
 def test_bom_of_a_brief_is_a_user_error(tmp_path, capsys):

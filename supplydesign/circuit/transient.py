@@ -38,7 +38,10 @@ Step sizes, and why:
 
 The surge is the highest junction current from ``SURGE_FROM_S`` on: the
 nanosecond charging of the junction and stray capacitances (elements that only
-regularise the network) is left out.
+regularise the network) is left out. Its I^2 t (for fuses) is that of the
+rectifier's output current (the current in a centre-tap lead; the junction
+currents of a bridge summed over its two paths, halved) over the whole run, by
+the trapezoidal rule on the steps.
 
 A design stops when, for two whole periods after the last warm-up, every rail
 has reached 90 % of its final DC and its period mean is within ``SETTLE_REL``
@@ -98,6 +101,7 @@ class SwitchOn:
     peak_t_s: np.ndarray  # (B, R) when it occurred
     surge_a: np.ndarray  # (B,) highest current in one junction, from SURGE_FROM_S on
     surge_t_s: np.ndarray  # (B,)
+    i2t_a2s: np.ndarray  # (B,) integral of the rectifier output current squared over the run
     t90_s: np.ndarray  # (B, R) first time the rail reached 90 % of its final DC (NaN: never)
     last_v: np.ndarray  # (B, R) mean rail voltage over the last period run
     settled: np.ndarray  # (B,) bool: stopped by the settle rule, not by t_max_s
@@ -118,6 +122,8 @@ class _Plant:
         self.params = s0.port_params
         emfs = [circuits[0].value(e.name, "emf") for e in topo.of_kind("W")]
         self.vscale = np.max(np.stack(emfs), axis=0)
+        # junctions in series on each conducting path: the output current is their sum / this
+        self.paths = 2.0 if topo.arrangement == "bridge" else 1.0
         self.Cy = s0.Cy
         rows = [s0.node_index[n] for n in topo.rail_nodes]
         self.rail_rows = rows
@@ -230,6 +236,7 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
     peak_t = np.zeros((B, R))
     surge = np.zeros(B)
     surge_t = np.zeros(B)
+    i2t = np.zeros(B)
     t90 = np.full((B, R), np.nan)
     last_v = np.zeros((B, R))
     settled = np.zeros(B, dtype=bool)
@@ -243,6 +250,7 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
     frac = 0.0
     prev_v = np.zeros((B, R))
     i_max_prev = np.zeros(B)  # junction currents are zero at rest
+    i_out_prev = np.zeros(B)
     mats = None
     key = None
     for chunk in _schedule(max_periods):
@@ -283,6 +291,9 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
                 surge[active] = np.where(better, cand, surge[active])
                 surge_t[active] = np.where(better, np.maximum(t, SURGE_FROM_S), surge_t[active])
             i_max_prev = i_max
+            i_out = np.sum(u, axis=1) / plant.paths
+            i2t[active] += 0.5 * (i_out_prev ** 2 + i_out ** 2) * (t - t_prev)
+            i_out_prev = i_out
             if target is not None:
                 tg = target[active]
                 cross = np.isnan(t90[active]) & (v >= tg)
@@ -319,12 +330,12 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
             x_end[fin] = x[done]
             keep = ~done
             active, x, u, y = active[keep], x[keep], u[keep], y[keep]
-            i_max_prev = i_max_prev[keep]
+            i_max_prev, i_out_prev = i_max_prev[keep], i_out_prev[keep]
             key = None
         if active.size == 0:
             break
     delay = np.broadcast_to(np.asarray(delay_s, dtype=float), (B,))
-    out = SwitchOn(peak_v, peak_t + delay[:, None], surge, surge_t + delay,
+    out = SwitchOn(peak_v, peak_t + delay[:, None], surge, surge_t + delay, i2t,
                    t90 + delay[:, None], last_v, settled, end + delay, x_end)
     if record:
         out.record = {k: np.array(v) for k, v in rec.items()}

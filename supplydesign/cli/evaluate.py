@@ -44,32 +44,42 @@ def cmd_evaluate(args) -> int:
         designs.append(load_design(path, catalog=catalog))
     if args.steps < 64:
         raise UserError("expected at least 64 steps per period", key="--steps")
+    from ..evaluation.cases import HIGH_MAINS_FULL_LOAD, solve_case
+    from ..evaluation.heatlife import Nominal, fuses_of, heat_life, suggest_fuses
+
     wc = None
     if args.nominal_only:
         full = evaluate(designs, steps=args.steps)
         idle = evaluate(designs, IDLE, steps=args.steps)
+        hl = heat_life(designs, Nominal.of(full))
+        fs = suggest_fuses(designs, solve_case(designs, HIGH_MAINS_FULL_LOAD, args.steps).arrays)
     else:
         from ..evaluation.worstcase import analyse
 
         wc = analyse(designs, steps=args.steps)
         full, idle = wc.cases["nominal"].figures(), wc.cases["idle"].figures()
+        hl, fs = heat_life(designs, wc.cases["nominal"].arrays), fuses_of(wc)
     if not args.quiet:
         from functools import partial
 
         from rich.console import Console
 
+        from ..report import heatlife as heat_report
         from ..report.console import render_evaluation
         from ..report.worstcase_console import render_worst_cases
 
         console = Console()
         for b, (d, f, i) in enumerate(zip(designs, full, idle, strict=True)):
             worst = None if wc is None else partial(render_worst_cases, wc=wc, b=b)
-            render_evaluation(console, d, f, i, worst=worst)
+            heat = partial(heat_report.render, design=d, hl=hl, b=b, fs=fs)
+            render_evaluation(console, d, f, i, worst=worst, heat=heat)
     if args.json:
+        from ..report.heatlife import heat_life_json
         from ..report.worstcase_json import worst_case_json
 
-        objs = [evaluation_json(f, i, None if wc is None else worst_case_json(wc, b))
-                for b, (f, i) in enumerate(zip(full, idle, strict=True))]
+        objs = [evaluation_json(f, i, None if wc is None else worst_case_json(wc, b),
+                                heat=heat_life_json(d, hl, fs, b))
+                for b, (d, f, i) in enumerate(zip(designs, full, idle, strict=True))]
         data = objs[0] if len(objs) == 1 else objs
         write_text_atomic(args.json, json.dumps(data, indent=2) + "\n", force=args.force)
     if args.spice:

@@ -16,11 +16,15 @@ FORMATS = ("png", "svg")
 def add_parsers(sub) -> None:
     """Add the ``bom`` subcommand to an argparse subparsers object."""
     bo = sub.add_parser("bom", help=BOM_HELP, description=BOM_HELP + ": part ids, values, "
-                        "ratings, quantities, unit and total prices, currency.")
+                        "ratings, quantities, unit and total prices, currency; the fuses "
+                        "suggested for each design close its list (a worst-case evaluation "
+                        "of each design, a few seconds).")
     bo.add_argument("designs", nargs="+", metavar="DESIGN.toml")
     bo.add_argument("--out", metavar="BOM.csv", help="the CSV file (default: print it)")
     bo.add_argument("--catalog", metavar="DIR", help="parts catalog directory to add")
     bo.add_argument("--force", action="store_true", help="overwrite an existing output file")
+    bo.add_argument("--no-fuses", action="store_true",
+                    help="leave out the fuses (no evaluation: instant)")
 
 
 def _plot_options(p) -> None:
@@ -58,7 +62,15 @@ def cmd_bom(args) -> int:
     labels = [os.path.basename(p) for p in args.designs]
     if len(set(labels)) < len(labels):
         labels = unique_labels(args.designs)
-    text = bom_csv(list(zip(labels, designs, strict=True)))
+    fuses = None
+    if not args.no_fuses:
+        from ..evaluation.heatlife import fuses_of
+        from ..evaluation.worstcase import analyse
+        from ..report.heatlife import bom_fuses
+
+        fs = fuses_of(analyse(designs))
+        fuses = [bom_fuses(d, fs, b) for b, d in enumerate(designs)]
+    text = bom_csv(list(zip(labels, designs, strict=True)), fuses)
     if args.out:
         from ..writefiles import write_text_atomic
 

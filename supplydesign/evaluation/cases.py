@@ -47,6 +47,8 @@ IDLE = Case("idle", "nominal", "idle")
 HIGH_MAINS_NO_LOAD = Case("high_mains_no_load", "high", "none")
 HIGH_MAINS_IDLE = Case("high_mains_idle", "high", "idle")
 LOW_MAINS_FULL_LOAD = Case("low_mains_full_load", "low", "full")
+#: the heaviest running load on the windings, for fuses
+HIGH_MAINS_FULL_LOAD = Case("high_mains_full_load", "high", "full")
 #: the cases of the shared contract's "cases" object, in its order
 WORST_CASES = (HIGH_MAINS_NO_LOAD, HIGH_MAINS_IDLE, LOW_MAINS_FULL_LOAD)
 

@@ -33,6 +33,7 @@ from ..circuit.steady import STEPS_PER_PERIOD
 from ..circuit.transient import phase_circuits, settle_time_estimate, switch_on
 from ..design import Design
 from .cases import (
+    HIGH_MAINS_FULL_LOAD,
     HIGH_MAINS_IDLE,
     HIGH_MAINS_NO_LOAD,
     IDLE,
@@ -65,6 +66,7 @@ class SwitchOnArrays:
     last_v: np.ndarray  # (B, R) mean rail voltage over the last period run
     surge_a: np.ndarray  # (B,)
     surge_t_s: np.ndarray  # (B,)
+    i2t_a2s: np.ndarray  # (B,) I^2 t of the rectifier output current over the run
     settled: np.ndarray  # (B,)
     end_s: np.ndarray  # (B,)
 
@@ -110,7 +112,7 @@ def _switch_on_runs(designs, final_v, tail_peak_v, make_phases, delay_s, t_extra
     reaching ``tail_peak_v`` in the steady state after the run ((B, R) each).
     Returns the arrays and, per group, (indices, SwitchOn)."""
     out = SwitchOnArrays(*(_blank(designs) for _ in range(5)),
-                         *(np.full(len(designs), np.nan) for _ in range(4)))
+                         *(np.full(len(designs), np.nan) for _ in range(5)))
     runs = []
     for idx in group_by_topology(designs):
         sub = [designs[i] for i in idx]
@@ -127,7 +129,8 @@ def _switch_on_runs(designs, final_v, tail_peak_v, make_phases, delay_s, t_extra
         peak = np.fmax(run.peak_v, tail_peak_v[idx, :n_rails])
         for name, val in (("peak_v", peak), ("peak_t_s", run.peak_t_s), ("t90_s", run.t90_s),
                           ("final_v", fv), ("last_v", run.last_v), ("surge_a", run.surge_a),
-                          ("surge_t_s", run.surge_t_s), ("settled", run.settled),
+                          ("surge_t_s", run.surge_t_s), ("i2t_a2s", run.i2t_a2s),
+                          ("settled", run.settled),
                           ("end_s", run.end_s)):
             _scatter(getattr(out, name), idx, val)
     return out, runs
@@ -305,8 +308,8 @@ def analyse(designs: Sequence[Design], steps: int = STEPS_PER_PERIOD,
     ``WorstCases.cold_runs``."""
     designs = tuple(designs)
     B = len(designs)
-    cases = solve_cases(designs, (NOMINAL, IDLE, HIGH_MAINS_IDLE, LOW_MAINS_FULL_LOAD, LESS_LOAD),
-                        steps, adjust=_less_load)
+    cases = solve_cases(designs, (NOMINAL, IDLE, HIGH_MAINS_IDLE, LOW_MAINS_FULL_LOAD, LESS_LOAD,
+                                  HIGH_MAINS_FULL_LOAD), steps, adjust=_less_load)
     less = cases.pop(LESS_LOAD.name)
     cold = solve_case(designs, HIGH_MAINS_NO_LOAD, steps)
     delay = _delays(designs)
@@ -348,7 +351,7 @@ def analyse(designs: Sequence[Design], steps: int = STEPS_PER_PERIOD,
         part, _ = _switch_on_runs(sub, hot.dc_v[given], hot.peak_v[given], warm_phases,
                                   delay[given], extra)
         warm = SwitchOnArrays(*(_blank(designs) for _ in range(5)),
-                              *(np.full(B, np.nan) for _ in range(4)))
+                              *(np.full(B, np.nan) for _ in range(5)))
         for name in warm.__dataclass_fields__:
             getattr(warm, name)[given] = getattr(part, name)
 

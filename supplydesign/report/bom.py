@@ -1,7 +1,9 @@
 """Bill of materials of a design: one line per part, as rows or as CSV.
 
 A line gives the part id (where the design names one), what it is, its value,
-its ratings, how many, the price of one and of all, and the currency. Prices
+its ratings, how many, the price of one and of all, and the currency. Given the
+fuse suggestions of an evaluation, the mains (F1) and HT (F2) fuses close the
+list, unpriced. Prices
 come from the design file (``price`` and ``currency`` of each part, per piece;
 a rectifier of silicon diodes takes one piece per diode). Parts without a price
 are listed and counted, never priced as zero.
@@ -20,6 +22,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 from ..design import Design, Rail
+from ..parts.fuses import rating_text
 from ..parts.pricing import rectifier_pieces
 from ..units import format_si
 
@@ -64,6 +67,26 @@ def _ohms(value: float) -> str:
 
 def _join(*bits: str) -> str:
     return "; ".join(b for b in bits if b)
+
+
+@dataclass(frozen=True)
+class BomFuses:
+    """The suggested fuses of a design (:mod:`supplydesign.evaluation.heatlife`)."""
+
+    ht_a: float
+    mains_a: float
+    ht_position: str  # "in the centre-tap lead", ...
+    primary_v: float
+    surge_checked: bool  # False: rated from the running current only
+
+
+def _fuse_lines(f: BomFuses) -> list[BomLine]:
+    note = "" if f.surge_checked else "at least; switch-on surge not checked"
+    return [BomLine("F1", "", "fuse", "", f"mains fuse, time-lag, in the primary "
+                    f"({f.primary_v:g} V)", f"{rating_text(f.mains_a)} T",
+                    _join("time-lag (T)", note), 1, None, None),
+            BomLine("F2", "", "fuse", "", f"HT fuse, time-lag, {f.ht_position}",
+                    f"{rating_text(f.ht_a)} T", _join("time-lag (T)", note), 1, None, None)]
 
 
 def _source_lines(design: Design) -> list[BomLine]:
@@ -116,7 +139,9 @@ def _rail_lines(k: int, rail: Rail) -> list[BomLine]:
             _join(_q(cap.capacitance_f, "F"), f"ESR {_ohms(cap.esr_ohm)}"
                   if cap.esr_ohm else ""),
             _join(_q(cap.voltage_rating_v, "V", 3),
-                  f"ripple {_q(cap.ripple_rating_a, 'A', 3)}" if cap.ripple_rating_a else ""),
+                  f"ripple {_q(cap.ripple_rating_a, 'A', 3)}" if cap.ripple_rating_a else "",
+                  f"{cap.rated_life_h:g} h at {cap.rated_temperature_c:g} degC"
+                  if cap.rated_life_h and cap.rated_temperature_c is not None else ""),
             1, cap.price, cap.currency))
     if rail.bleeder_ohm is not None:
         out.append(BomLine(f"RB{k}", rail.name, "bleeder", "", "bleeder resistor",
@@ -137,11 +162,14 @@ def rail_part_values(rail: Rail, digits: int = 3) -> list[str]:
     return out
 
 
-def bom_lines(design: Design) -> list[BomLine]:
-    """Every part of a complete design: transformer, rectifier, then rail by rail."""
+def bom_lines(design: Design, fuses: BomFuses | None = None) -> list[BomLine]:
+    """Every part of a complete design: transformer, rectifier, then rail by rail, then
+    the fuses when given."""
     lines = _source_lines(design)
     for k, rail in enumerate(design.rails, start=1):
         lines.extend(_rail_lines(k, rail))
+    if fuses is not None:
+        lines.extend(_fuse_lines(fuses))
     return lines
 
 
@@ -159,19 +187,22 @@ def _money(x: float | None) -> str:
     return "" if x is None else f"{x:.2f}"
 
 
-def bom_csv(designs: Sequence[tuple[str, Design]]) -> str:
+def bom_csv(designs: Sequence[tuple[str, Design]],
+            fuses: Sequence[BomFuses | None] | None = None) -> str:
     """The BOM of several designs as one CSV text (see module docstring).
 
     Parameters
     ----------
     designs : sequence of (label, Design)
         Each design with the label written in the ``design`` column (a file name).
+    fuses : sequence of BomFuses or None, optional
+        Each design's suggested fuses, in the same order.
     """
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(COLUMNS)
-    for label, design in designs:
-        lines = bom_lines(design)
+    for k, (label, design) in enumerate(designs):
+        lines = bom_lines(design, None if fuses is None else fuses[k])
         for b in lines:
             w.writerow([label, b.ref, b.rail, b.kind, b.part, b.description, b.value, b.rating,
                         b.quantity, _money(b.unit_price), _money(b.total_price),

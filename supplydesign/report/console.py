@@ -93,9 +93,9 @@ def stresses_table(design: Design, full: Figures):
 
 
 def render_evaluation(console, design: Design, full: Figures, idle: Figures | None,
-                      worst=None) -> None:
-    """Print the evaluation of one design; ``worst(console)``, when given, prints the
-    worst cases before the cautions."""
+                      worst=None, heat=None) -> None:
+    """Print the evaluation of one design; ``worst(console)`` and ``heat(console)``, when
+    given, print the worst cases and the heat, life and fuses before the cautions."""
     from rich.panel import Panel
 
     console.rule(f"[bold]{design.title}[/]  ({design.source})")
@@ -106,4 +106,6 @@ def render_evaluation(console, design: Design, full: Figures, idle: Figures | No
     console.print(stresses_table(design, full))
     if worst is not None:
         worst(console)
+    if heat is not None:
+        heat(console)
     console.print(Panel("\n".join(CAUTION_LINES), title="Caution", border_style="yellow"))

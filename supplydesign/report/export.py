@@ -7,12 +7,14 @@ from ..evaluation.figures import Figures
 
 
 def evaluation_json(full: Figures, idle: Figures | None = None,
-                    extra_cases: dict | None = None) -> dict:
+                    extra_cases: dict | None = None, heat: dict | None = None) -> dict:
     """The ``evaluate --json`` object of one design: SI floats, nominal case first.
 
     Keys of the contract (``rails[].name/dc_v/ripple_rms_v/ripple_pp_v``,
     ``rectifier.peak_a/rms_a``, ``transformer.rms_a``, ``rails[].regulation_pct``)
-    plus the other figures under their own names.
+    plus the other figures under their own names. ``heat``
+    (:func:`supplydesign.report.heatlife.heat_life_json`) adds ``rails[].capacitor``,
+    ``rails[].resistor``, further ``transformer`` keys, ``fuses`` and ``chassis``.
     """
     reg = regulation_pct(full, idle) if idle is not None else [None] * len(full.rails)
     rails = []
@@ -40,6 +42,14 @@ def evaluation_json(full: Figures, idle: Figures | None = None,
         "solver": {"converged": full.converged, "iterations": full.iterations,
                    "residual": full.residual, "note": full.note},
     }
+    if heat:
+        for rail, cap, res in zip(rails, heat["capacitors"], heat["resistors"], strict=True):
+            rail["capacitor"] = cap
+            if res is not None:
+                rail["resistor"] = res
+        out["transformer"].update(heat["transformer"])
+        out["fuses"] = heat["fuses"]
+        out["chassis"] = heat["chassis"]
     if extra_cases:
         out.update(extra_cases)
     return out
