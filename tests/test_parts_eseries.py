@@ -156,3 +156,27 @@ def test_rounding_properties(x, name):
     # No series value strictly between down and up.
     inside = values(name, down, up)
     assert len(inside) <= 2
+
+
+def test_iec_60063_tolerance_of_each_series():
+    # IEC 60063:2015 associates each series with a tolerance [memory: from memory of the
+    # standard's foreword; the issue states the same table]: E6 20 %, E12 10 %, E24 5 %,
+    # E48 2 %, E96 1 %, E192 0.5 %.
+    assert eseries.SERIES_TOLERANCE == {"E6": 0.20, "E12": 0.10, "E24": 0.05, "E48": 0.02,
+                                        "E96": 0.01, "E192": 0.005}
+
+
+@pytest.mark.parametrize("value,first,expected", [
+    (47e-6, "E6", "E6"),      # an E6 value: a capacitor of it is a 20 % part
+    (39e-6, "E6", "E12"),     # E12, not E6 [source: IEC 60063 tables, REFERENCES.md]
+    (5.1e-6, "E6", "E24"),
+    (4.7e3, "E24", "E24"),    # in E6 too, but resistors are made to E24 and finer
+    (1.69e3, "E24", "E48"),   # 10^(11/48) rounds to 1.69 [source: REFERENCES.md]
+    (2.0e3, "E24", "E24"),    # E24 holds 2.0, so E96's 2.00 is not reached
+    (4.75e3, "E24", "E96"),
+    (9.20, "E6", "E192"),     # the one E192 exception, 9.20 [source: REFERENCES.md]
+    (9.19, "E6", None),       # ... which leaves 9.19 on no series
+    (3.14e3, "E24", None),
+])
+def test_series_a_value_belongs_to(value, first, expected):
+    assert eseries.series_of(value, first) == expected

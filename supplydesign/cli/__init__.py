@@ -1,4 +1,5 @@
-"""Command line: ``supplydesign evaluate|parts|rate|bom|synth|demo``, one module per group.
+"""Command line: ``supplydesign evaluate|spread|parts|rate|bom|synth|demo``, one module per
+group.
 
 Heavy imports (numpy, scipy, pint, rich, pymoo) happen inside the commands so
 that ``supplydesign --help`` answers at once.
@@ -12,6 +13,7 @@ import sys
 from . import evaluate as cli_evaluate
 from . import export as cli_export
 from . import parts as cli_parts
+from . import spread as cli_spread
 from . import synth as cli_synth
 
 EXIT_USER = 2
@@ -27,14 +29,15 @@ def _parser() -> argparse.ArgumentParser:
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
     cli_evaluate.add_parsers(sub)
+    cli_spread.add_parsers(sub)
     cli_parts.add_parsers(sub)
     cli_export.add_parsers(sub)
     cli_synth.add_parsers(sub)
     return p
 
 
-COMMANDS = {**cli_evaluate.COMMANDS, **cli_parts.COMMANDS, **cli_export.COMMANDS,
-            **cli_synth.COMMANDS}
+COMMANDS = {**cli_evaluate.COMMANDS, **cli_spread.COMMANDS, **cli_parts.COMMANDS,
+            **cli_export.COMMANDS, **cli_synth.COMMANDS}
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -200,3 +200,47 @@ def nearest(name: str, x):
     x = np.asarray(x, dtype=float)
     take_up = np.log(up / x) <= np.log(x / down)
     return np.where(take_up, up, down)[()]
+
+
+#: The tolerance IEC 60063 associates with each series (a fraction): E6 ±20 %,
+#: E12 ±10 %, E24 ±5 %, E48 ±2 %, E96 ±1 %, E192 ±0.5 %.
+SERIES_TOLERANCE: dict[str, float] = {"E6": 0.20, "E12": 0.10, "E24": 0.05, "E48": 0.02,
+                                      "E96": 0.01, "E192": 0.005}
+
+
+def on_series(name: str, x: float) -> bool:
+    """Whether ``x`` (> 0) is a value of the series (within a relative 1e-9)."""
+    return bool(np.isclose(next_down(name, x), x, rtol=REL_TOL, atol=0.0)
+                or np.isclose(next_up(name, x), x, rtol=REL_TOL, atol=0.0))
+
+
+def series_of(x: float, coarsest: str = "E6") -> str | None:
+    """The coarsest series of :data:`SERIES_TOLERANCE`, from ``coarsest`` on, that holds ``x``.
+
+    A value lies on several series (4.7 is in E6, E12 and E24); which one a part
+    is made to depends on its kind: an electrolytic of 47 µF is an E6 part (±20 %),
+    a resistor of 4.7 kΩ is made to E24 (±5 %) and finer. ``coarsest`` is the
+    kind's first series; None when no series from it on holds the value.
+
+    Parameters
+    ----------
+    x : float
+        The value (any unit), > 0.
+    coarsest : str
+        First series to try ("E6" for capacitors, "E24" for resistors).
+
+    Returns
+    -------
+    str or None
+        The series name; its tolerance is ``SERIES_TOLERANCE[name]``.
+
+    References
+    ----------
+    .. [1] IEC 60063:2015, "Preferred number series for resistors and capacitors",
+       International Electrotechnical Commission (the series and their tolerances).
+    """
+    names = list(SERIES_TOLERANCE)
+    for name in names[names.index(_check_name(coarsest)):]:
+        if on_series(name, x):
+            return name
+    return None

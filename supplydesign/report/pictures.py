@@ -225,6 +225,7 @@ def save_all(figures: Mapping[str, object], out_dir: str, fmt: str = "png", *,
         os.close(fd)
         try:
             save_figure(fig, tmp)
+            os.chmod(tmp, 0o644)  # mkstemp's 0600 would keep the picture from others
             os.replace(tmp, path)
         finally:
             if os.path.exists(tmp):
