@@ -11,6 +11,10 @@ Public API (imported lazily so that ``import supplydesign`` stays light)::
     brief = load_design("brief.toml", brief=True, catalog=catalog)
     result = synthesize(brief, catalog, SynthOptions(seed=1))   # a SynthResult
 
+    from supplydesign import run_spread, summarise_spread
+    spread = run_spread(design, catalog, builds=500, seed=1)   # builds within tolerances
+    print(summarise_spread(spread).yield_)
+
 HT supplies carry lethal voltages; no figure of this package makes a design safe.
 """
 
@@ -32,6 +36,8 @@ _LAZY = {
     "synthesize": ("supplydesign.synth.run", "synthesize"),
     "SynthOptions": ("supplydesign.synth.run", "SynthOptions"),
     "SynthResult": ("supplydesign.synth.run", "SynthResult"),
+    "run_spread": ("supplydesign.evaluation.spread", "run_spread"),
+    "summarise_spread": ("supplydesign.evaluation.spread", "summarise"),
     "UserError": ("supplydesign.errors", "UserError"),
     "load_catalog": ("supplydesign.parts", "load_catalog"),
 }
