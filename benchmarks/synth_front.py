@@ -22,7 +22,7 @@ import numpy as np
 from supplydesign.io.designfile import load_design
 from supplydesign.parts import load_catalog
 from supplydesign.synth.problem import evaluate_population
-from supplydesign.synth.run import SynthOptions, _Archive, synthesize  # noqa: F401
+from supplydesign.synth.run import SynthOptions, synthesize
 from supplydesign.synth.space import build_space
 
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -61,13 +61,8 @@ def main() -> None:
     true_front = F[ok][nondominated(F[ok])]
     print(f"enumeration: {t_enum:.1f} s, {ok.sum()} feasible, true front {len(true_front)} points")
 
-    captured = {}
-
-    def progress(gen, total_gen, best):
-        captured["gen"] = gen
-
     t0 = time.perf_counter()
-    result = synthesize(brief, catalog, SynthOptions(seed=args.seed), progress=progress)
+    result = synthesize(brief, catalog, SynthOptions(seed=args.seed))
     t_synth = time.perf_counter() - t0
     # synth's front at search accuracy: look its reported designs up in the enumeration
     # through their variables (the archive holds them)

@@ -39,6 +39,32 @@ def test_minimum_current_inverts_the_critical_inductance():
         formulas.critical_inductance_h(3150.0, 50.0)
 
 
+def test_reservoir_ripple_worked_value():
+    # REFERENCES "Rectifier and filter formulas" 1 [source: Horowitz & Hill §1.6.3]:
+    # 100 mA, 100 uF, 50 Hz full-wave -> 2.887 V rms [derived, printed to 4 figures];
+    # half-wave: the ripple period doubles, so twice the ripple
+    assert formulas.reservoir_ripple_rms_v(0.1, 100e-6, 50.0) == pytest.approx(2.887, abs=5e-4)
+    assert formulas.reservoir_ripple_rms_v(0.1, 100e-6, 50.0, "half-wave") == \
+        pytest.approx(2 * 2.887, abs=1e-3)
+
+
+def test_section_attenuation_worked_values():
+    # REFERENCES "Rectifier and filter formulas" 6 [derived; circuit theory], printed to
+    # 0.01 dB: 10 kohm, 47 uF at 100 Hz -> -49.41 dB; 10 H, 47 uF at 100 Hz -> -45.32 dB
+    w = 2 * math.pi * 100.0
+    assert 20 * math.log10(formulas.rc_attenuation(10e3, 47e-6, w)) == \
+        pytest.approx(-49.41, abs=0.005)
+    assert 20 * math.log10(formulas.lc_attenuation(10.0, 47e-6, w)) == \
+        pytest.approx(-45.32, abs=0.005)
+
+
+def test_choke_input_ripple_worked_value():
+    # REFERENCES item 5 [derived from source: Wikipedia, "Ripple (electrical)"]: 10 H,
+    # 50 uF at 60 Hz -> ripple factor 1.664e-3 (printed to 4 figures)
+    assert formulas.choke_input_ripple_rms_v(1.0, 10.0, 50e-6, 60.0) == \
+        pytest.approx(1.664e-3, abs=5e-7)
+
+
 def test_choke_input_dc_worked_value():
     # REFERENCES 3 [source: Wikipedia, "Ripple (electrical)"; Crowhurst, Basic Audio vol. 3]:
     # 350 V rms per half -> 315.1 V ideal; less I R

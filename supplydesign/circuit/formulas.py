@@ -131,6 +131,85 @@ def lc_section(inductance_h, capacitance_f, r_series_ohm=0.0, r_load_ohm=np.inf)
     return f0, q
 
 
+def ripple_frequency_hz(frequency_hz, arrangement="full-wave"):
+    """Fundamental of the rectified ripple [Hz]: twice the mains for full-wave and
+    bridge, the mains itself for half-wave."""
+    return np.asarray(frequency_hz, dtype=float) * (1.0 if arrangement == "half-wave" else 2.0)
+
+
+def reservoir_ripple_rms_v(current_a, capacitance_f, frequency_hz, arrangement="full-wave"):
+    """Rms ripple on a capacitor-input reservoir feeding a constant current [V].
+
+    .. math:: V_{rms} \\approx \\frac{I}{4\\sqrt{3} f C} \\ \\text{(full-wave, bridge)},
+              \\qquad \\frac{I}{2\\sqrt{3} f C} \\ \\text{(half-wave)}
+
+    the sawtooth of a linear discharge over the whole ripple period (peak-to-peak
+    I / (2fC) or I / (fC)). It over-estimates, since the capacitor recharges for
+    part of the period (about +12 % at ωRC ≈ 50).
+
+    References
+    ----------
+    .. [1] P. Horowitz, W. Hill, *The Art of Electronics*, 3rd ed. (2015), §1.6.3.
+    .. [2] Wikipedia, "Ripple (electrical)".
+    """
+    f_r = ripple_frequency_hz(frequency_hz, arrangement)
+    return np.asarray(current_a, dtype=float) / (2.0 * np.sqrt(3.0) * f_r
+                                                 * np.asarray(capacitance_f, dtype=float))
+
+
+def choke_input_ripple_rms_v(v_dc, inductance_h, capacitance_f, frequency_hz):
+    """Rms ripple after the first LC section of a full-wave choke input [V].
+
+    .. math:: V_{rms} = \\gamma V_{dc}, \\qquad
+              \\gamma = \\frac{\\sqrt{2}}{3(\\omega_r^2 LC - 1)}, \\quad \\omega_r = 2\\pi \\cdot 2f
+
+    (the second harmonic of the rectified sine, amplitude 4V_p/3π, through the
+    section; higher harmonics neglected).
+
+    References
+    ----------
+    .. [1] Wikipedia, "Ripple (electrical)", choke-input filter.
+    """
+    w_r = 2.0 * np.pi * ripple_frequency_hz(frequency_hz)
+    lc = np.asarray(inductance_h, dtype=float) * np.asarray(capacitance_f, dtype=float)
+    with np.errstate(divide="ignore"):
+        gamma = np.sqrt(2.0) / (3.0 * np.abs(w_r**2 * lc - 1.0))
+    return gamma * np.asarray(v_dc, dtype=float)
+
+
+def rc_attenuation(resistance_ohm, capacitance_f, omega_rad_s):
+    """Ripple gain |H| of an RC section feeding a constant-current load (R_L → ∞).
+
+    .. math:: |H| = \\frac{1}{\\sqrt{1 + (\\omega R C)^2}} \\approx \\frac{1}{\\omega R C}
+
+    References
+    ----------
+    .. [1] Circuit theory: the voltage divider of R and 1/(jωC); see REFERENCES.md,
+       "Rectifier and filter formulas" 6.
+    """
+    x = (np.asarray(omega_rad_s, dtype=float) * np.asarray(resistance_ohm, dtype=float)
+         * np.asarray(capacitance_f, dtype=float))
+    return 1.0 / np.sqrt(1.0 + x**2)
+
+
+def lc_attenuation(inductance_h, capacitance_f, omega_rad_s):
+    """Ripple gain |H| of a lossless LC section feeding a constant-current load.
+
+    .. math:: |H| = \\frac{1}{|1 - \\omega^2 L C|}
+
+    (above the resonance 1/√(LC) it falls as 1/(ω²LC); near it the lossless form
+    grows without bound, and the section's losses, not modelled here, limit it).
+
+    References
+    ----------
+    .. [1] Circuit theory; see REFERENCES.md, "Rectifier and filter formulas" 6.
+    """
+    x = (np.asarray(omega_rad_s, dtype=float) ** 2 * np.asarray(inductance_h, dtype=float)
+         * np.asarray(capacitance_f, dtype=float))
+    with np.errstate(divide="ignore"):
+        return 1.0 / np.abs(1.0 - x)
+
+
 def discharge_time_s(capacitance_f, resistance_ohm, v0, v_safe=SAFE_VOLTAGE_V):
     """Time for a capacitor to fall from v0 to v_safe through a resistance [s].
 

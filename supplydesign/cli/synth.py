@@ -24,7 +24,12 @@ def _synth_options(sp, out_required: bool) -> None:
     sp.add_argument("--seed", type=int, default=1, help="random seed (same seed, same result)")
     sp.add_argument("--workers", type=int, default=1, help="parallel evaluation processes")
     sp.add_argument("--catalog", metavar="DIR", help="parts catalog directory to add")
-    sp.add_argument("--generations", type=int, default=30, help="search generations")
+    sp.add_argument("--generations", type=int, default=None,
+                    help="a fixed number of search generations (default: search until the "
+                         "front of designs stops improving)")
+    sp.add_argument("--time-limit", type=float, default=None, metavar="SECONDS",
+                    help="stop the search after this long (default 45 s when it runs until "
+                         "the front settles; none with --generations)")
     sp.add_argument("--population", type=int, default=48, help="candidates per generation")
     sp.add_argument("--objectives", default="hum_db,regulation_pct,peak,cost",
                     help="comma-separated subset of hum_db, regulation_pct, peak, cost")
@@ -54,8 +59,9 @@ def cmd_synth(args, brief_path: str | None = None) -> int:
         raise UserError(f"expected objectives among {', '.join(OBJECTIVES)}, got {bad or 'none'}",
                         key="--objectives")
     for name, value, low in (("--workers", args.workers, 1), ("--generations", args.generations, 1),
-                             ("--population", args.population, 4)):
-        if value < low:
+                             ("--population", args.population, 4),
+                             ("--time-limit", args.time_limit, 1)):
+        if value is not None and value < low:
             raise UserError(f"expected at least {low}", key=name)
     if args.out and not args.force and os.path.exists(os.path.join(args.out, "pareto.json")):
         raise UserError("holds the files of an earlier run; give --force to overwrite them "
@@ -65,23 +71,24 @@ def cmd_synth(args, brief_path: str | None = None) -> int:
     brief = load_design(path, brief=True, catalog=catalog)
     options = SynthOptions(seed=args.seed, pop_size=args.population,
                            generations=args.generations, workers=args.workers,
-                           objectives=objectives)
+                           objectives=objectives, time_limit_s=args.time_limit)
     console = Console()
-    with Progress(TextColumn("[bold]searching[/]"), BarColumn(), TextColumn("{task.description}"),
-                  TimeElapsedColumn(), console=console, transient=True) as bar:
-        task = bar.add_task("", total=options.generations)
+    with Progress(TextColumn("[bold]searching[/]"), BarColumn(bar_width=20),
+                  TimeElapsedColumn(), TextColumn("{task.description}"), console=console,
+                  transient=True) as bar:
+        task = bar.add_task("starting designs", total=1.0)
 
-        def progress(gen, total, best):
-            if best is None:
-                text = "no candidate meets the brief yet"
-            else:
-                text = (f"best: hum margin {-best[0]:.1f} dB, idle→full {best[1]:.1f} %, "
-                        f"cost {best[3]:.2f}")
-            bar.update(task, completed=gen, description=text)
+        def progress(status):
+            fraction = status.fraction()
+            bar.update(task, completed=fraction if fraction is not None else 0.0,
+                       description=status.text())
 
         result = synthesize(brief, catalog, options, progress=progress)
     if result.extra.get("interrupted"):
         console.print("[bold yellow]Interrupted: the designs below are the best found so far.[/]")
+    elif result.extra.get("stopped"):
+        style = "yellow" if result.extra.get("stop_reason") == "time limit" else "dim"
+        console.print(f"[{style}]Search {result.extra['stopped']}.[/]")
     render_synthesis(console, result, limit=args.show)
     if args.out:
         written = write_run(result, args.out, force=args.force, seed=args.seed)

@@ -25,15 +25,24 @@ from ..circuit.statespace import build_state_space
 from ..circuit.steady import periodic_steady_state
 from ..evaluation.analysis import FigureArrays, Solved, figure_arrays, stack_rows
 from .score import OBJECTIVES, Scores, choose_capacitors, score
-from .space import KIND_WIRE, RESISTOR_AS_CHOKE_H, Decoded, SearchSpace, decode, template
+from .space import (
+    KIND_WIRE,
+    RESISTOR_AS_CHOKE_H,
+    Decoded,
+    SearchSpace,
+    canonical,
+    decode,
+    template,
+)
 
 IDLE_CASE = OperatingCase("idle", 1.0, "idle")
 #: steps per mains period during the search (the reported designs are re-evaluated
 #: with the default 512): DC within about 0.05 %, ripple 0.3 %, peak current 1-3 %
 SEARCH_STEPS = 128
-#: Newton iterations of a candidate's steady state in the search, in one attempt: a
+#: Newton iterations of a candidate's steady state in the search, in one attempt (a large
+#: choke input takes about 26 from the initial guess): a
 #: candidate that has not settled by then counts as infeasible
-SEARCH_ITERATIONS = 25
+SEARCH_ITERATIONS = 40
 
 
 @dataclass
@@ -42,7 +51,6 @@ class PopulationResult:
     scores: Scores
     full: FigureArrays
     idle: FigureArrays
-    dec_X: np.ndarray | None = None  # the integer variables evaluated
 
 
 def _group_circuit(space: SearchSpace, dec: Decoded, esr: np.ndarray, rows: np.ndarray,
@@ -110,10 +118,66 @@ def evaluate_population(space: SearchSpace, X: np.ndarray,
     return PopulationResult(dec, score(space, dec, caprow, full, idle), full, idle)
 
 
+class Evaluated:
+    """Every candidate a run has evaluated, once each: its canonical variables, its
+    objectives (all of ``OBJECTIVES``), its named constraints and reported columns.
+
+    Rows are kept in the order they were first evaluated; :meth:`find` looks rows
+    up without a loop over candidates (rows compared as raw bytes).
+    """
+
+    def __init__(self, n_var: int, names: list[str]):
+        self.names = list(names)
+        self.X = np.zeros((0, n_var), dtype=np.int64)
+        self.F = np.zeros((0, len(OBJECTIVES)))
+        self.G = np.zeros((0, len(names)))
+        self.columns: dict[str, np.ndarray] = {}
+        self._sorted = np.zeros(0, dtype=np.dtype((np.void, 8 * n_var)))
+        self._order = np.zeros(0, dtype=int)
+
+    def __len__(self) -> int:
+        return len(self.X)
+
+    def _keys(self, X: np.ndarray) -> np.ndarray:
+        X = np.ascontiguousarray(np.asarray(X, dtype=np.int64))
+        return X.view(self._sorted.dtype).ravel()
+
+    def find(self, X: np.ndarray) -> np.ndarray:
+        """Row of each candidate in the archive, -1 where it was never evaluated."""
+        if len(self._sorted) == 0 or len(X) == 0:
+            return np.full(len(X), -1)
+        keys = self._keys(X)
+        at = np.minimum(np.searchsorted(self._sorted, keys), len(self._sorted) - 1)
+        return np.where(self._sorted[at] == keys, self._order[at], -1)
+
+    def add(self, X: np.ndarray, scores: Scores) -> None:
+        """Append new candidates (not evaluated before, each once) with their scores."""
+        self.X = np.concatenate([self.X, np.asarray(X, dtype=np.int64)])
+        self.F = np.concatenate([self.F, scores.F])
+        self.G = np.concatenate([self.G, scores.G])
+        for k, v in scores.columns.items():
+            self.columns[k] = np.concatenate([self.columns.get(k, np.zeros(0)), v])
+        keys = self._keys(self.X)
+        self._order = np.argsort(keys, kind="stable")
+        self._sorted = keys[self._order]
+
+    @property
+    def feasible(self) -> np.ndarray:
+        return np.all(self.G <= 0.0, axis=1)
+
+
 def make_problem(space: SearchSpace, objectives: tuple[str, ...] = OBJECTIVES,
                  steps: int = SEARCH_STEPS, pool=None, workers: int = 1):
-    """The pymoo Problem: integer variables, the chosen objectives, named constraints."""
+    """The pymoo Problem: integer variables, the chosen objectives, named constraints.
+
+    The problem keeps every candidate it evaluated (``problem.evaluated``, an
+    :class:`Evaluated`), solves each distinct candidate once, and learns the
+    rectifier output's DC of each kind of candidate (``problem.output``) for the
+    dropping-resistor repair (:func:`supplydesign.synth.seed.repair`).
+    """
     from pymoo.core.problem import Problem
+
+    from .seed import OutputDC, chain_of
 
     cols = [OBJECTIVES.index(o) for o in objectives]
     xl, xu = space.bounds()
@@ -123,18 +187,47 @@ def make_problem(space: SearchSpace, objectives: tuple[str, ...] = OBJECTIVES,
         def __init__(self):
             super().__init__(n_var=space.n_var, n_obj=len(cols),
                              n_ieq_constr=probe.scores.G.shape[1], xl=xl, xu=xu, vtype=int)
+            self.space = space
+            self.chain = chain_of(space)
+            self.output = OutputDC(space, self.chain)
             self.constraint_names = probe.scores.names
-            self.history: list[PopulationResult] = []
+            self.evaluated = Evaluated(space.n_var, probe.scores.names)
             self.objective_columns = cols
 
+        def evaluate_rows(self, X: np.ndarray) -> np.ndarray:
+            """Rows of ``self.evaluated`` for canonical candidates X, solving the new ones."""
+            X = np.asarray(X, dtype=np.int64)
+            at = self.evaluated.find(X)
+            new = np.flatnonzero(at < 0)
+            if len(new):
+                _, first = np.unique(X[new], axis=0, return_index=True)
+                new = new[np.sort(first)]
+                res = _evaluate_parallel(space, X[new], steps, pool, workers)
+                self.output.learn(X[new], res.dec, res.full.dc_v, res.full.converged)
+                self.evaluated.add(X[new], res.scores)
+                at = self.evaluated.find(X)
+            return at
+
         def _evaluate(self, X, out, *args, **kwargs):
-            res = _evaluate_parallel(space, X, steps, pool, workers)
-            res.dec_X = np.rint(X).astype(int)
-            self.history.append(res)
-            out["F"] = res.scores.F[:, self.objective_columns]
-            out["G"] = res.scores.G
+            at = self.evaluate_rows(canonical(space, X))
+            out["F"] = self.evaluated.F[at][:, self.objective_columns]
+            out["G"] = self.evaluated.G[at]
 
     return SupplyProblem()
+
+
+def make_repair():
+    """The pymoo repair operator: canonical variables, droppers moved onto their DC
+    targets (:func:`supplydesign.synth.seed.repair`), with what the problem has learnt."""
+    from pymoo.core.repair import Repair
+
+    from .seed import repair
+
+    class DropperRepair(Repair):
+        def _do(self, problem, X, **kwargs):
+            return repair(problem.space, problem.chain, X, problem.output)
+
+    return DropperRepair()
 
 
 def _evaluate_parallel(space, X, steps, pool, workers) -> PopulationResult:

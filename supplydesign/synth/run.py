@@ -26,6 +26,7 @@ from ..circuit.netlist import OperatingCase
 from ..design import Design
 from ..evaluation.analysis import FigureArrays, evaluate_arrays
 from ..io.tomlwrite import readable
+from .budget import nondominated as _nondominated
 from .score import OBJECTIVES, Scores, choose_capacitors, score
 from .space import KIND_CHOKE, KIND_RESISTOR, SearchSpace, build_space, decode, to_design
 
@@ -34,12 +35,22 @@ IDLE = OperatingCase("idle", 1.0, "idle")
 
 @dataclass
 class SynthOptions:
+    """How a search runs.
+
+    ``generations`` None (the default) stops when the feasible front settles
+    (:mod:`supplydesign.synth.budget`), within ``time_limit_s`` (default
+    ``budget.TIME_LIMIT_S``); a number of generations, or of distinct candidates
+    (``evaluations``), is a fixed budget, capped only by a time limit given here.
+    """
+
     seed: int = 1
     pop_size: int = 48
-    generations: int = 30
+    generations: int | None = None
     workers: int = 1
     objectives: tuple[str, ...] = OBJECTIVES
     verify_steps: int = 512
+    time_limit_s: float | None = None
+    evaluations: int | None = None
 
 
 @dataclass
@@ -83,36 +94,6 @@ def notation(design: Design) -> str:
         link = {"resistor": "R", "choke": "L"}.get(r.link.kind, "")
         out.append(link + ("C" if r.capacitor is not None else ""))
     return "".join(out)
-
-
-def _nondominated(F: np.ndarray) -> np.ndarray:
-    from pymoo.util.nds.non_dominated_sorting import NonDominatedSorting
-
-    if len(F) == 0:
-        return np.array([], dtype=int)
-    return NonDominatedSorting().do(F, only_non_dominated_front=True)
-
-
-class _Archive:
-    """Every evaluated candidate: X, objectives, constraints (unique rows)."""
-
-    def __init__(self):
-        self.X: list[np.ndarray] = []
-        self.F: list[np.ndarray] = []
-        self.G: list[np.ndarray] = []
-
-    def add(self, X, F, G):
-        self.X.append(np.rint(X).astype(int))
-        self.F.append(F)
-        self.G.append(G)
-
-    def arrays(self):
-        X = np.concatenate(self.X)
-        F = np.concatenate(self.F)
-        G = np.concatenate(self.G)
-        _, first = np.unique(X, axis=0, return_index=True)
-        first = np.sort(first)
-        return X[first], F[first], G[first]
 
 
 def _verify(space: SearchSpace, X: np.ndarray, steps: int):
@@ -197,25 +178,18 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
                progress=None) -> SynthResult:
     """Search ``brief`` for its Pareto set of buildable designs (see module docstring).
 
-    ``progress(generation, generations, best)`` is called after every generation with
-    the best value of each objective among feasible candidates so far (or None).
+    ``progress(status)`` is called after every generation with a
+    :class:`supplydesign.synth.budget.Status` (what the search is doing, the best
+    value of each searched objective among feasible candidates so far, or None).
     """
-    from pymoo.algorithms.moo.nsga2 import NSGA2
-    from pymoo.core.callback import Callback
-    from pymoo.operators.crossover.sbx import SBX
-    from pymoo.operators.mutation.pm import PM
-    from pymoo.operators.repair.rounding import RoundingRepair
-    from pymoo.operators.sampling.rnd import IntegerRandomSampling
-    from pymoo.optimize import minimize
-
     from .explain import explain
-    from .problem import init_worker, make_problem
+    from .problem import init_worker
 
     opt = options or SynthOptions()
     space = build_space(brief, catalog)
-    archive = _Archive()
+    cols = [OBJECTIVES.index(o) for o in opt.objectives]
     pool = None
-    if opt.workers > 1:
+    if opt.workers > 1 and space.n_var > 0:
         import multiprocessing as mp
         from concurrent.futures import ProcessPoolExecutor
 
@@ -224,55 +198,23 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
     try:
         if space.n_var == 0:
             X_all = np.zeros((1, 0), dtype=int)
+            F_all, G_all = np.zeros((1, len(OBJECTIVES))), np.zeros((1, 1))
+            status = None
         else:
-            problem = make_problem(space, OBJECTIVES, pool=pool, workers=opt.workers)
-            cols = [OBJECTIVES.index(o) for o in opt.objectives]
-
-            class Track(Callback):
-                seen = 0
-
-                def notify(self, algorithm):
-                    for res in problem.history[self.seen:]:
-                        archive.add(res.dec_X, res.scores.F, res.scores.G)
-                    self.seen = len(problem.history)
-                    if progress is not None:
-                        _, F, G = archive.arrays()
-                        ok = np.all(G <= 0, axis=1)
-                        progress(algorithm.n_gen, opt.generations,
-                                 F[ok].min(axis=0) if ok.any() else None)
-
-            algorithm = NSGA2(
-                pop_size=opt.pop_size, sampling=IntegerRandomSampling(),
-                crossover=SBX(prob=0.9, eta=15, vtype=float, repair=RoundingRepair()),
-                mutation=PM(eta=20, vtype=float, repair=RoundingRepair()),
-                eliminate_duplicates=True)
-            problem.objective_columns = cols
-            interrupted = False
-            track = Track()
-            try:
-                minimize(problem, algorithm, ("n_gen", opt.generations), seed=opt.seed,
-                         callback=track, verbose=False)
-            except KeyboardInterrupt:  # keep what was found so far
-                interrupted = True
-                for res in problem.history[track.seen:]:
-                    archive.add(res.dec_X, res.scores.F, res.scores.G)
-            if not archive.X:
-                raise KeyboardInterrupt
-            X_all, F_all, G_all = archive.arrays()
+            problem, status = _search(space, opt, cols, pool, progress)
+            ev = problem.evaluated
+            X_all, F_all, G_all = ev.X, ev.F, ev.G
     finally:
         if pool is not None:
             pool.shutdown()
-    if space.n_var == 0:
-        F_all = np.zeros((1, len(OBJECTIVES)))
-        G_all = np.zeros((1, 1))
-        interrupted = False
-    cols = [OBJECTIVES.index(o) for o in opt.objectives]
     feasible = np.all(G_all <= 0, axis=1)
     result = SynthResult(brief=brief, designs=[], picks={}, comparison=None, explanation=[],
-                         evaluations=len(X_all), generations=opt.generations,
+                         evaluations=len(X_all), generations=status.generation if status else 0,
                          currency=space.currency, objectives=opt.objectives,
                          archive_feasible=int(feasible.sum()),
-                         extra={"interrupted": interrupted})
+                         extra={"interrupted": bool(status and status.reason == "interrupted"),
+                                "stopped": status.summary() if status else "",
+                                "stop_reason": status.reason if status else ""})
     if not feasible.any() and space.n_var > 0:
         result.explanation = explain(space, X_all, F_all, G_all)
         return result
@@ -300,6 +242,69 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
     result.picks = _picks(on_front)
     result.comparison = _comparison(ok)
     return result
+
+
+def _search(space: SearchSpace, opt: SynthOptions, cols: list[int], pool, progress):
+    """NSGA-II from constructive starting designs, generation by generation (pymoo's
+    ask and tell), until the budget says stop. Returns the problem (whose archive
+    holds every candidate evaluated) and the last status."""
+    import time
+
+    from pymoo.algorithms.moo.nsga2 import NSGA2
+    from pymoo.core.termination import NoTermination
+    from pymoo.operators.crossover.sbx import SBX
+    from pymoo.operators.mutation.pm import PM
+    from pymoo.operators.repair.rounding import RoundingRepair
+
+    from .budget import Budget
+    from .problem import make_problem, make_repair
+    from .seed import starting_designs
+
+    start = time.perf_counter()
+    problem = make_problem(space, opt.objectives, pool=pool, workers=opt.workers)
+    budget = Budget(opt.generations, opt.time_limit_s, opt.evaluations)
+    # starting designs of every topology, solved once so that the repair learns the
+    # rectifier output's DC of each, then offered (repaired) with random ones
+    seeds = starting_designs(space, problem.chain, limit=2 * opt.pop_size)
+    problem.evaluate_rows(seeds)
+    rng = np.random.default_rng(opt.seed)
+    _, xu = space.bounds()
+    fill = max(opt.pop_size - len(seeds), opt.pop_size // 4)
+    randoms = rng.integers(0, xu.astype(int) + 1, size=(fill, space.n_var))
+    algorithm = NSGA2(
+        pop_size=opt.pop_size, sampling=np.concatenate([seeds, randoms]),
+        crossover=SBX(prob=0.9, eta=15, vtype=float, repair=RoundingRepair()),
+        mutation=PM(eta=20, vtype=float, repair=RoundingRepair()),
+        repair=make_repair(), eliminate_duplicates=True)
+    algorithm.setup(problem, termination=NoTermination(), seed=opt.seed, verbose=False)
+    problem.objective_columns = cols
+    status = None
+    generation = 0
+    ev = problem.evaluated
+    try:
+        while True:
+            pop = algorithm.ask()
+            if pop is None or len(pop) == 0:  # every offspring was evaluated before
+                status = budget.update(generation, ev.F[:, cols], ev.feasible,
+                                       time.perf_counter() - start)
+                status.reason = "exhausted"
+                break
+            algorithm.evaluator.eval(problem, pop, algorithm=algorithm)
+            algorithm.tell(infills=pop)
+            generation += 1
+            status = budget.update(generation, ev.F[:, cols], ev.feasible,
+                                   time.perf_counter() - start)
+            if progress is not None:
+                progress(status)
+            if status.done:
+                break
+    except KeyboardInterrupt:  # keep what was found so far
+        if len(ev) == 0:
+            raise
+        status = budget.update(generation, ev.F[:, cols], ev.feasible,
+                               time.perf_counter() - start)
+        status.reason = "interrupted"
+    return problem, status
 
 
 def _worst_case_check(cands: list[Candidate], steps: int) -> list[Candidate]:

@@ -79,7 +79,7 @@ def _resolve_transformers(brief: Design, catalog) -> list[Transformer]:
     if not tr.choose:
         return [tr]
     out = []
-    for pid in tr.choose:
+    for pid in dict.fromkeys(tr.choose):  # a part listed twice is one choice
         out.append(Transformer(**{k: v for k, v in catalog.get("transformer", pid).items()
                                   if k in Transformer.__dataclass_fields__}))
     return out
@@ -91,7 +91,7 @@ def _resolve_rectifiers(brief: Design, transformers: list[Transformer], catalog)
         return [rect]
     winding = {t.winding for t in transformers}
     out = []
-    for pid in rect.choose:
+    for pid in dict.fromkeys(rect.choose):
         d = {k: v for k, v in catalog.get("rectifier", pid).items()
              if k in Rectifier.__dataclass_fields__}
         if "arrangement" not in d:  # silicon: the arrangement follows the winding
@@ -203,6 +203,25 @@ def decode(space: SearchSpace, X: np.ndarray) -> Decoded:
             cap[:, i] = rs.fixed_cap.capacitance_f
     return Decoded(col(space.var_transformer), col(space.var_rectifier), kind, res, ind, choke,
                    cap)
+
+
+def canonical(space: SearchSpace, X: np.ndarray) -> np.ndarray:
+    """Integer variables (n, n_var), rounded into their bounds, with every inactive
+    variable at 0: the resistor index of a link that is not a resistor, the choke
+    index of a link that is not a choke. Two rows that build the same circuit are
+    then the same row."""
+    X = np.rint(np.asarray(X, dtype=float)).astype(int).reshape(-1, space.n_var)
+    _, xu = space.bounds()
+    X = np.clip(X, 0, xu.astype(int))
+    for rs in space.rails:
+        if rs.var_kind < 0:
+            continue
+        kind = np.asarray(rs.kinds)[X[:, rs.var_kind]]
+        if rs.var_r >= 0:
+            X[kind != KIND_RESISTOR, rs.var_r] = 0
+        if rs.var_choke >= 0:
+            X[kind != KIND_CHOKE, rs.var_choke] = 0
+    return X
 
 
 def _catalog_id(table: dict, row: int) -> str | None:
