@@ -235,6 +235,12 @@ class Design:
         own = self.rails[i].ambient_c
         return self.chassis.ambient if own is None else own
 
+    @property
+    def file_name(self) -> str:
+        """The file the design was read from without its folders: how outputs meant to
+        be sent to someone (report.html, netlists, pareto.json) name it."""
+        return self.source.replace("\\", "/").rsplit("/", 1)[-1]
+
     def rail_index(self, name: str) -> int:
         for i, r in enumerate(self.rails):
             if r.name == name:

@@ -84,6 +84,14 @@ def test_page_is_self_contained_with_cautions_and_one_svg_per_picture(report):
         assert f"<td>#{k}</td>" in text and f"{c.cost:.2f}" in text
 
 
+def test_page_names_the_brief_by_its_file_name_not_its_folder(report):
+    result, _, path = report
+    page = path.read_text(encoding="utf-8")
+    folder = str(Path(result.brief.source).parent)
+    assert Path(result.brief.source).is_absolute() and folder not in page
+    assert f"synthesis of {Path(result.brief.source).name}" in page
+
+
 def test_inline_svg_is_the_same_picture_as_the_file(report):
     result, waves, _ = report
     figs = synth_figures(result, waves)

@@ -97,6 +97,15 @@ def test_reported_designs_meet_the_brief(small_run):
         assert idle.converged
 
 
+def test_run_files_name_the_brief_by_file_name_and_hold_no_machine_paths(small_run):
+    doc = json.loads((small_run / "pareto.json").read_text())
+    assert doc["brief_file"] == "small-crc.toml"
+    for path in [small_run / "pareto.json", small_run / "pareto.csv", small_run / "bom.csv",
+                 small_run / "report.html", *sorted((small_run / "designs").glob("*.toml"))]:
+        text = path.read_text(encoding="utf-8")
+        assert str(BRIEFS) not in text and str(small_run) not in text, path.name
+
+
 def test_csv_and_json_list_the_same_designs(small_run):
     doc = json.loads((small_run / "pareto.json").read_text())
     rows = (small_run / "pareto.csv").read_text().strip().splitlines()

@@ -235,7 +235,7 @@ def netlist(circuit: Circuit, index: int = 0, *, t_stop_s: float, t_step_s: floa
     design = circuit.designs[index] if circuit.designs else None
     if title is None:
         title = design.title if design is not None else "supplydesign circuit"
-    source = design.source if design is not None else "<unknown>"
+    source = design.file_name if design is not None else "<unknown>"
     freq = float(circuit.frequency_hz[index])
     nodes = _Nodes(circuit)
 

@@ -285,7 +285,7 @@ def synth_report_html(result, svgs: Mapping[str, str], waves: Mapping[int, Figur
                   + [(f"design-{i + 1}", f"design #{i + 1}") for i in shown]
                   + ([("comparison", "choke against resistor")] if result.comparison else [])
                   + [("all", "every design")])
-    meta = (f"supplydesign {__version__} synthesis of {_e(brief.source)} · "
+    meta = (f"supplydesign {__version__} synthesis of {_e(brief.file_name)} · "
             f"{result.evaluations} candidates evaluated · {len(result.designs)} verified "
             f"designs on the Pareto set" + (f" · seed {seed}" if seed is not None else ""))
     body = [f"<header><h1>{_e(brief.title)}</h1><p class=\"meta\">{meta}</p></header>",

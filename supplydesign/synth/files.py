@@ -82,7 +82,8 @@ def write_run(result: SynthResult, out_dir: str, *, force: bool = False,
                       for i, r in enumerate(c.design.rails)],
             "rectifier": {"peak_a": c.full["peak_a"]},
         })
-    doc = {"designs": entries, "brief": result.brief.title, "currency": result.currency,
+    doc = {"designs": entries, "brief": result.brief.title,
+           "brief_file": result.brief.file_name, "currency": result.currency,
            "seed": seed, "evaluations": result.evaluations,
            "picks": {n: {"design": i + 1, "why": why} for n, (i, why) in result.picks.items()},
            "explanation": result.explanation, "caution": " ".join(CAUTION_LINES)}
