@@ -70,6 +70,17 @@ def cmd_bom(args) -> int:
 
         fs = fuses_of(analyse(designs))
         fuses = [bom_fuses(d, fs, b) for b, d in enumerate(designs)]
+    if not args.out and sys.stdout.isatty():  # a person reads it: tables for the width
+        from rich.console import Console
+
+        from ..report.bom import bom_sheet
+        from ..report.layout import print_sheet
+
+        console = Console()
+        for b, (label, design) in enumerate(zip(labels, designs, strict=True)):
+            print_sheet(console, bom_sheet(label, design, None if fuses is None else fuses[b]))
+        console.print("[dim]As CSV: give --out FILE, or send the output to a pipe or file.[/]")
+        return 0
     text = bom_csv(list(zip(labels, designs, strict=True)), fuses)
     if args.out:
         from ..writefiles import write_text_atomic

@@ -62,6 +62,8 @@ def cmd_parts(args) -> int:
         return 0
     from rich.console import Console
 
+    from ..report.layout import print_sheet
+
     fam = _family_name(args.family)
     if args.kind is not None:
         if fam not in (None, "rectifier"):
@@ -80,8 +82,7 @@ def cmd_parts(args) -> int:
     console.print(f"Parts catalog: {source}")
     listings = [x for x in describe_catalog(catalog, fam, args.kind) if x.rows]
     for listing in listings:
-        for table in _tables(listing, console.width):
-            console.print(table)
+        print_sheet(console, _sheet(listing))
     if not listings:
         console.print("No parts match.")
     console.print("Demo data is invented: check every rating against the data sheet of the "
@@ -89,40 +90,17 @@ def cmd_parts(args) -> int:
     return 0
 
 
-DESCRIPTION_WIDTH = 24  # longer descriptions fold onto further lines
+def _sheet(listing):
+    """A catalog listing as a sheet: the id repeated in every table a narrow terminal
+    needs, the description folding at spaces, every value whole on its line."""
+    from ..report.layout import Column, Sheet
 
-
-def _tables(listing, width: int) -> list:
-    """Rich tables of a catalog listing, the columns split over several tables (each
-    starting with the id) where one table would be wider than ``width`` characters."""
-    from rich.table import Table
-
-    def need(j: int) -> int:  # a column's width: no value is ever cut, headers wrap at spaces
-        words = max(len(w) for w in listing.headers[j].split())
-        cells = max(len(row[j]) for row in listing.rows)
-        if listing.headers[j] == "description":
-            cells = min(cells, DESCRIPTION_WIDTH)
-        return max(words, cells) + 3  # padding and border
-
-    groups: list[list[int]] = [[]]
-    used = 1 + need(0)
-    for j in range(1, len(listing.headers)):
-        if groups[-1] and used + need(j) > width:
-            groups.append([])
-            used = 1 + need(0)
-        groups[-1].append(j)
-        used += need(j)
-    tables = []
-    for k, group in enumerate(groups):
-        more = f", part {k + 1} of {len(groups)}" if len(groups) > 1 else ""
-        table = Table(title=f"{listing.family}s ({len(listing.rows)}{more})",
-                      title_justify="left")
-        for j in (0, *group):
-            table.add_column(listing.headers[j], width=need(j) - 3)
-        for cells in listing.rows:
-            table.add_row(*(cells[j] for j in (0, *group)))
-        tables.append(table)
-    return tables
+    cols = [Column(h, "left", key=j == 0, text=h == "description")
+            for j, h in enumerate(listing.headers)]
+    sheet = Sheet(f"{listing.family}s ({len(listing.rows)})", cols)
+    for cells in listing.rows:
+        sheet.add_row(*cells)
+    return sheet
 
 
 def _rate_header(source: str, margin: float) -> str:
@@ -176,15 +154,15 @@ def cmd_rate(args) -> int:
 
 def _print_rated(rated) -> None:
     from rich.console import Console
-    from rich.table import Table
 
-    table = Table(title="Chosen ratings", title_justify="left")
-    for col in ("rail", "part", "why"):
-        table.add_column(col)
+    from ..report.layout import Column, Sheet, print_sheet
+
+    sheet = Sheet("Chosen ratings", [Column("rail", "left", key=True), Column("part", "left"),
+                                     Column("why", "left", text=True)])
     for (rail, element), text in rated.reasons.items():
-        table.add_row(rail, element, text)
+        sheet.add_row(rail, element, text)
     console = Console()
-    console.print(table)
+    print_sheet(console, sheet)
     console.print(f"Chosen parts: {rated.price:.2f} {rated.currency or ''}".rstrip())
 
 

@@ -214,3 +214,36 @@ def bom_csv(designs: Sequence[tuple[str, Design]],
             w.writerow([label, "", "", "total", "", _join("parts total", note), "", "",
                         sum(b.quantity for b in lines), "", _money(total), currency])
     return buf.getvalue()
+
+
+def bom_sheet(label: str, design: Design, fuses: BomFuses | None = None):
+    """The BOM of one design as a console table (:class:`~supplydesign.report.layout.Sheet`):
+    each value and rating on lines of their own, the totals as last rows."""
+    from .layout import Column, Sheet
+
+    lines = bom_lines(design, fuses)
+    currencies = sorted({b.currency for b in lines if b.currency})
+    one = currencies[0] if len(currencies) == 1 else None
+    what, price, where = "parts", "price", "catalog part and description"
+    cols = [Column("ref", "left", key=True), Column("rail", "left", band=what),
+            Column("value", "left", band=what), Column("rating", "left", band=what),
+            Column("qty", band=price), Column(f"each {one}" if one else "each", band=price),
+            Column(f"total {one}" if one else "total", band=price)]
+    if one is None:
+        cols.append(Column("currency", "left", band=price))
+    cols += [Column("part", "left", band=where),
+             Column("description", "left", text=True, band=where)]
+    sheet = Sheet(f"Bill of materials: {label}", cols)
+
+    def row(*cells: str, currency: str | None) -> None:
+        sheet.add_row(*cells[:7], *([] if one else [currency or ""]), *cells[7:])
+
+    for b in lines:
+        row(b.ref, b.rail, b.value.replace("; ", "\n"), b.rating.replace("; ", "\n"),
+            str(b.quantity), _money(b.unit_price), _money(b.total_price), b.part, b.description,
+            currency=b.currency)
+    unpriced = sum(1 for b in lines if b.unit_price is None)
+    for currency, total in (bom_totals(lines) or {"": None}).items():
+        row("total", "", "", "", str(sum(b.quantity for b in lines)), "", _money(total), "",
+            f"{unpriced} without a price" if unpriced else "", currency=currency)
+    return sheet

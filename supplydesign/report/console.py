@@ -24,15 +24,17 @@ def _ratio_cell(used: float, rating: float | None, unit: str) -> str:
     return f"[{style}]{format_si(used, unit)} of {format_si(rating, unit)} ({100 * share:.0f} %)[/]"
 
 
-def rails_table(design: Design, full: Figures, idle: Figures | None):
-    from rich.table import Table
+def rails_sheet(design: Design, full: Figures, idle: Figures | None):
+    """The rails at nominal mains, full signal: DC against target, hum against allowance."""
+    from .layout import Column, Sheet
 
     reg = regulation_pct(full, idle) if idle is not None else [None] * len(full.rails)
-    t = Table(title="Rails (nominal mains, full-signal load)", title_justify="left")
-    for col, just in (("rail", "left"), ("DC", "right"), ("target", "right"),
-                      ("off target", "right"), ("hum rms", "right"), ("hum p-p", "right"),
-                      ("allowed", "right"), ("hum margin", "right"), ("idle→full", "right")):
-        t.add_column(col, justify=just)
+    dc, hum = "DC and regulation", "hum"
+    sheet = Sheet("Rails (nominal mains, full-signal load)", [
+        Column("rail", "left", key=True), Column("DC", band=dc), Column("target", band=dc),
+        Column("off target", band=dc), Column("idle→full", band=dc),
+        Column("hum rms", band=hum), Column("hum p-p", band=hum), Column("allowed", band=hum),
+        Column("hum margin", band=hum)])
     for rail, fig, g in zip(design.rails, full.rails, reg, strict=True):
         target = dev = allowed = margin = "—"
         if rail.voltage_v is not None:
@@ -45,19 +47,20 @@ def rails_table(design: Design, full: Figures, idle: Figures | None):
             m = 20 * math.log10(rail.hum_v / max(fig.ripple_rms_v, 1e-15))
             style = "green" if m >= 0 else "bold red"
             margin = f"[{style}]{m:+.1f} dB[/]"
-        t.add_row(rail.name, format_si(fig.dc_v, "V", 4), target, dev,
-                  format_si(fig.ripple_rms_v, "V"), format_si(fig.ripple_pp_v, "V"),
-                  allowed, margin, _pct(None if g is None else -g))
-    return t
+        sheet.add_row(rail.name, format_si(fig.dc_v, "V", 4), target, dev,
+                      _pct(None if g is None else -g), format_si(fig.ripple_rms_v, "V"),
+                      format_si(fig.ripple_pp_v, "V"), allowed, margin)
+    return sheet
 
 
-def stresses_table(design: Design, full: Figures):
-    from rich.table import Table
+def stresses_sheet(design: Design, full: Figures):
+    """Every part's stress in the nominal case against its rating."""
+    from .layout import Column, Sheet
 
-    t = Table(title="Part stresses (nominal case)", title_justify="left")
-    t.add_column("part")
-    t.add_column("stress")
-    t.add_column("used against rating")
+    sheet = Sheet("Part stresses (nominal case)", [
+        Column("part", "left", key=True), Column("stress", "left", text=True),
+        Column("used against rating", "left")])
+    t = sheet
     rect = design.rectifier
     t.add_row("rectifier", "peak current per anode/diode",
               _ratio_cell(full.rectifier.peak_a, rect.max_peak_current_a, "A"))
@@ -77,19 +80,19 @@ def stresses_table(design: Design, full: Figures):
     for rail, fig in zip(design.rails, full.rails, strict=True):
         link = rail.link
         if link.kind == "resistor":
-            t.add_row(f"{rail.name}: resistor {format_si(link.resistance_ohm, 'Ω')}",
-                      "dissipation", _ratio_cell(fig.link_power_w, link.power_w, "W"))
+            t.add_row(f"{rail.name}: {format_si(link.resistance_ohm, 'Ω')}",
+                      "resistor dissipation", _ratio_cell(fig.link_power_w, link.power_w, "W"))
         elif link.kind == "choke":
-            t.add_row(f"{rail.name}: choke {format_si(link.inductance_h, 'H')}",
-                      "DC current", _ratio_cell(abs(fig.link_dc_a), link.current_rating_a, "A"))
+            t.add_row(f"{rail.name}: {format_si(link.inductance_h, 'H')}", "choke DC current",
+                      _ratio_cell(abs(fig.link_dc_a), link.current_rating_a, "A"))
         cap = rail.capacitor
         if cap is not None:
-            name = f"{rail.name}: capacitor {format_si(cap.capacitance_f, 'F')}"
-            t.add_row(name, "highest voltage (nominal)",
+            name = f"{rail.name}: {format_si(cap.capacitance_f, 'F')}"
+            t.add_row(name, "capacitor: highest voltage (nominal)",
                       _ratio_cell(fig.peak_v, cap.voltage_rating_v, "V"))
             t.add_row("", "ripple current rms",
                       _ratio_cell(fig.cap_ripple_rms_a or 0.0, cap.ripple_rating_a, "A"))
-    return t
+    return sheet
 
 
 def render_evaluation(console, design: Design, full: Figures, idle: Figures | None,
@@ -98,12 +101,15 @@ def render_evaluation(console, design: Design, full: Figures, idle: Figures | No
     given, print the worst cases and the heat, life and fuses before the cautions."""
     from rich.panel import Panel
 
-    console.rule(f"[bold]{design.title}[/]  ({design.source})")
+    from .layout import print_sheet
+
+    console.rule(f"[bold]{design.file_name}[/]")
+    console.print(f"[bold]{design.title}[/]")
     if not full.converged:
         console.print(f"[bold red]No working steady state was found for this design "
                       f"({full.note}); treat its figures with suspicion.[/]")
-    console.print(rails_table(design, full, idle))
-    console.print(stresses_table(design, full))
+    print_sheet(console, rails_sheet(design, full, idle))
+    print_sheet(console, stresses_sheet(design, full))
     if worst is not None:
         worst(console)
     if heat is not None:

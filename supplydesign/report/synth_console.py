@@ -4,17 +4,49 @@ from __future__ import annotations
 
 from ..cautions import CAUTION_LINES
 from ..units import format_si
-from .bom import rail_part_values
 
 PICK_LABELS = {"cheapest": "cheapest", "quietest": "quietest", "stiffest": "stiffest",
                "balanced": "balanced"}
 
 
-def _parts(c) -> str:
-    return " ".join(v for r in c.design.rails for v in rail_part_values(r))
+#: how each objective and reported column of a candidate is shown: name -> (header,
+#: cell text of the value). An objective or column missing here is shown by its name.
+#: Shown in this order, then any others the candidates carry.
+FIGURES = {
+    "hum_db": ("hum Σ dB", lambda c, v: f"{v:+.1f}"),
+    "hum_margin_db": ("worst margin dB", lambda c, v: f"{v:.1f}" if v == v else "·"),
+    "regulation_pct": ("idle→full %", lambda c, v: f"{-v:.1f}"),
+    "peak": ("peak", lambda c, v: f"{100 * v:.0f} %" if c.design.rectifier.max_peak_current_a
+             else format_si(v, "A")),
+}
+LEGEND = {
+    "hum_db": "hum Σ: every rail's ripple over its allowance, powers added, "
+              "10·log10 Σ (ripple/allowed)²",
+    "hum_margin_db": "worst margin: the noisiest rail's dB below its allowance",
+    "regulation_pct": "idle→full: the worst rail's DC change from idle to full signal",
+    "peak": "peak: rectifier peak current per anode as a share of its rating",
+}
 
 
-def _margins(c) -> str:
+def compact_value(x: float, unit: str) -> str:
+    """A part value without the space, as the trade writes it on a schematic: "10µF"."""
+    return format_si(x, unit).replace(" ", "")
+
+
+def rail_cell(rail) -> str:
+    """The parts of one rail, link then capacitor: "10H 22µF", "4.7kΩ 10µF", "330µF"."""
+    out = []
+    if rail.link.kind == "resistor":
+        out.append(compact_value(rail.link.resistance_ohm, "Ω"))
+    elif rail.link.kind == "choke":
+        out.append(compact_value(rail.link.inductance_h, "H"))
+    if rail.capacitor is not None:
+        out.append(compact_value(rail.capacitor.capacitance_f, "F"))
+    return " ".join(out) or "—"
+
+
+def dc_offsets(c) -> str:
+    """Each rail's DC off its target in %, in rail order: "-6 -6 +4 +3" (· without one)."""
     out = []
     for i, r in enumerate(c.design.rails):
         if r.voltage_v is not None:
@@ -24,17 +56,55 @@ def _margins(c) -> str:
     return " ".join(out)
 
 
-def _margin_text(c) -> str:
-    m = c.columns.get("hum_margin_db", float("nan"))
-    return f"{m:.1f} dB" if m == m else "·"
+def _source(c) -> tuple[str, str]:
+    return (c.design.transformer.part or "—",
+            c.design.rectifier.part or c.design.rectifier.kind)
+
+
+def pareto_sheet(result, shown: list[int], marks: dict[int, list[str]]):
+    """The table of the shown designs as a :class:`~supplydesign.report.layout.Sheet`:
+    figures (cost, every objective and reported column, picks), then the transformer and
+    rectifier where they differ between the shown designs, then each rail's parts."""
+    from .layout import Column, Sheet
+
+    cands = [result.designs[k] for k in shown]
+    first = cands[0]
+    carried = [f for f in (*first.objectives, *first.columns) if f != "cost"]
+    figures = [f for f in FIGURES if f in carried] + [f for f in carried if f not in FIGURES]
+    cols = [Column("#", key=True), Column("filter", "left", band="figures"),
+            Column(f"cost {result.currency or ''}".strip(), band="figures")]
+    cols += [Column(FIGURES.get(f, (f,))[0], band="figures") for f in figures]
+    cols.append(Column("pick", "left", band="figures"))
+    vary = len({_source(c) for c in cands}) > 1
+    if vary:
+        cols += [Column("transformer", "left", band="transformer and rectifier"),
+                 Column("rectifier", "left", band="transformer and rectifier")]
+    cols += [Column(r.name, "left", band="parts per rail") for r in result.brief.rails]
+    cols.append(Column("DC off target %", "left", band="parts per rail"))
+    sheet = Sheet(f"Pareto set: {len(result.designs)} verified designs, cheapest first", cols)
+    for k, c in zip(shown, cands, strict=True):
+        values = {**c.objectives, **c.columns}
+        cells = [str(k + 1), c.notation, f"{c.cost:.2f}"]
+        for f in figures:
+            show = FIGURES.get(f, (f, lambda c, v: f"{v:.3g}"))[1]
+            cells.append(show(c, values[f]))
+        cells.append(", ".join(marks.get(k, [])))
+        if vary:
+            cells += list(_source(c))
+        cells += [rail_cell(r) for r in c.design.rails]
+        cells.append(dc_offsets(c))
+        sheet.add_row(*cells)
+    return sheet, None if vary else _source(first)
 
 
 def render_synthesis(console, result, limit: int = 25) -> None:
     from rich.panel import Panel
-    from rich.table import Table
+
+    from .layout import print_sheet
 
     brief = result.brief
-    console.rule(f"[bold]{brief.title}[/]  ({brief.source})")
+    console.rule(f"[bold]{brief.file_name}[/]")
+    console.print(f"[bold]{brief.title}[/]")
     if not result.designs:
         lines = "\n".join(f"• {x}" for x in result.explanation) or "no design found"
         console.print(Panel(lines, title="No buildable design meets this brief",
@@ -45,31 +115,16 @@ def render_synthesis(console, result, limit: int = 25) -> None:
     for name, (i, _) in result.picks.items():
         marks.setdefault(i, []).append(PICK_LABELS[name])
     cur = result.currency or ""
-    t = Table(title=f"Pareto set: {len(result.designs)} verified designs, cheapest first "
-                    f"({result.evaluations} candidates evaluated)", title_justify="left")
-    for col, just in (("#", "right"), ("filter", "left"), ("transformer / rectifier", "left"),
-                      ("links and capacitors", "left"), ("DC off target %", "left"),
-                      ("hum Σ", "right"), ("worst margin", "right"), ("idle→full", "right"),
-                      ("peak", "right"),
-                      (f"cost {cur}", "right"), ("pick", "left")):
-        t.add_column(col, justify=just)
     shown = sorted(set(range(min(limit, len(result.designs)))) | set(marks))
-    for k in shown:
-        c = result.designs[k]
-        peak = c.objectives["peak"]
-        peak_txt = f"{100 * peak:.0f} %" if c.design.rectifier.max_peak_current_a \
-            else format_si(peak, "A")
-        source = f"{c.design.transformer.part or '—'} / " \
-                 f"{c.design.rectifier.part or c.design.rectifier.kind}"
-        t.add_row(str(k + 1), c.notation, source, _parts(c), _margins(c),
-                  f"{c.objectives['hum_db']:+.1f} dB", _margin_text(c),
-                  f"{-c.objectives['regulation_pct']:.1f} %",
-                  peak_txt, f"{c.cost:.2f}", ", ".join(marks.get(k, [])))
-    console.print(t)
-    console.print("[dim]hum Σ: every rail's ripple over its allowance, powers added, "
-                  "10·log10 Σ (ripple/allowed)²; worst margin: the noisiest rail's dB below "
-                  "its allowance; peak: rectifier peak current per anode as a share of its "
-                  "rating; idle→full: the worst rail's DC change from idle to full signal[/]")
+    sheet, common = pareto_sheet(result, shown, marks)
+    if common is not None and common != ("—", brief.rectifier.kind):
+        console.print(f"Every design shown takes transformer {common[0]} and rectifier "
+                      f"{common[1]}.")
+    print_sheet(console, sheet)
+    first = result.designs[shown[0]]
+    legend = [LEGEND[f] for f in LEGEND if f in first.objectives or f in first.columns]
+    console.print(f"[dim]{result.evaluations} candidates evaluated. " + "; ".join(legend)
+                  + "; DC off target: each rail's DC from its target, in rail order.[/]")
     if len(result.designs) > len(shown):
         console.print(f"[dim]{len(result.designs) - len(shown)} more designs in the output "
                       "files.[/]")

@@ -11,18 +11,19 @@ from ..evaluation.stress import PEAK_SOURCES, capacitor_stress, checks, damping
 from ..evaluation.worstcase import WorstCases, signal_dependent
 from ..units import format_si
 from .console import _ratio_cell
+from .layout import Column, Sheet, print_sheet
 
 #: frequencies at which the output impedance is shown [Hz]
 SHOWN_HZ = (1.0, 10.0, 100.0, 1000.0)
 
 
-def _table(title: str, *columns: str):
-    from rich.table import Table
-
-    t = Table(title=title, title_justify="left")
-    for k, col in enumerate(columns):
-        t.add_column(col, justify="left" if k == 0 else "right")
-    return t
+def _table(title: str, *columns: str | Column) -> Sheet:
+    """A sheet keyed by its first column (left), the others values (right) unless given
+    as :class:`Column`."""
+    cols = [c if isinstance(c, Column) else Column(c, "left" if k == 0 else "right",
+                                                   key=k == 0)
+            for k, c in enumerate(columns)]
+    return Sheet(title, cols)
 
 
 def _v(x: float, digits: int = 4) -> str:
@@ -38,10 +39,9 @@ def _time(x: float) -> str:
 def cases_table(wc: WorstCases, b: int):
     d = wc.designs[b]
     a = {name: c.arrays for name, c in wc.cases.items()}
-    t = _table("Rail DC over the mains and load cases", "rail", "nominal, full",
-               f"low mains (-{100 * d.mains.low:.0f} %), full",
-               f"high mains (+{100 * d.mains.high:.0f} %), idle", "high mains, no load",
-               "idle→full")
+    t = _table(f"Rail DC over the mains and load cases (mains -{100 * d.mains.low:.0f} % "
+               f"low, +{100 * d.mains.high:.0f} % high)", "rail", "nominal, full",
+               "low mains, full", "high mains, idle", "high mains, no load", "idle→full")
     for i, r in enumerate(d.rails):
         low = a["low_mains_full_load"].dc_v[b, i]
         cell = _v(low)
@@ -57,15 +57,18 @@ def cases_table(wc: WorstCases, b: int):
 
 def capacitor_table(wc: WorstCases, b: int):
     cs = capacitor_stress(wc)
-    t = _table("Capacitor voltage: highest in any case", "capacitor", "nominal",
-               "high mains, no load", "switch-on", "worst against rating", "worst case")
+    cases, worst = "by case", "against rating"
+    t = _table("Capacitor voltage: highest in any case", "capacitor",
+               Column("nominal", band=cases), Column("high mains, no load", band=cases),
+               Column("switch-on", band=cases), Column("worst against rating", band=worst),
+               Column("worst case", "left", text=True, band=worst))
     for i, r in enumerate(wc.designs[b].rails):
         if r.capacitor is None:
             continue
         rating = None if np.isnan(cs.rating_v[b, i]) else float(cs.rating_v[b, i])
         where = PEAK_SOURCES[cs.worst_case[b, i]]
         if cs.only_no_load[b, i]:
-            where = f"[bold red]{where}: only with no load at high mains[/]"
+            where = f"[bold red]{where} (only there)[/]"
         t.add_row(f"{r.name}: {format_si(r.capacitor.capacitance_f, 'F')}",
                   _v(cs.peaks["nominal"][b, i]), _v(cs.peaks["high_mains_no_load"][b, i]),
                   _v(cs.peaks["switch_on"][b, i]),
@@ -98,9 +101,11 @@ def switch_on_table(wc: WorstCases, b: int):
 
 def filter_table(wc: WorstCases, b: int):
     d = wc.designs[b]
-    cols = [f"|Z| {format_si(f, 'Hz')}" for f in SHOWN_HZ]
+    z, lc = "output impedance", "LC sections"
+    cols = [Column(f"|Z| {format_si(f, 'Hz')}", band=z) for f in SHOWN_HZ]
     t = _table("Output impedance (small signal) and LC sections", "rail", *cols,
-               "peak |Z|", "LC f0", "Q")
+               Column("peak |Z|", band=z), Column("LC f0", band=lc),
+               Column("Q", "left", text=True, band=lc))
     f = wc.impedance_hz
     for i, r in enumerate(d.rails):
         z = wc.impedance_ohm[b, i]
@@ -164,7 +169,7 @@ def bleeder_line(wc: WorstCases, b: int) -> str | None:
 def render_worst_cases(console, wc: WorstCases, b: int) -> None:
     """Print the worst-case tables and findings of design ``b``."""
     for table in (cases_table, capacitor_table, switch_on_table, filter_table, discharge_table):
-        console.print(table(wc, b))
+        print_sheet(console, table(wc, b))
     for line in [*choke_input_lines(wc, b), bleeder_line(wc, b)]:
         if line:
             console.print(line)
