@@ -13,7 +13,7 @@ PICK_LABELS = {"cheapest": "cheapest", "quietest": "quietest", "stiffest": "stif
 #: cell text of the value). An objective or column missing here is shown by its name.
 #: Shown in this order, then any others the candidates carry.
 FIGURES = {
-    "hum_db": ("hum Σ dB", lambda c, v: f"{v:+.1f}"),
+    "hum_db": ("hum Σ dB", lambda c, v: f"{round(v, 1) or 0.0:+.1f}"),  # no "-0.0"
     "hum_margin_db": ("worst margin dB", lambda c, v: f"{v:.1f}" if v == v else "·"),
     "regulation_pct": ("idle→full %", lambda c, v: f"{-v:.1f}"),
     "peak": ("peak", lambda c, v: f"{100 * v:.0f} %" if c.design.rectifier.max_peak_current_a
@@ -50,7 +50,8 @@ def dc_offsets(c) -> str:
     out = []
     for i, r in enumerate(c.design.rails):
         if r.voltage_v is not None:
-            out.append(f"{100 * (c.full['dc_v'][i] / r.voltage_v - 1):+.0f}")
+            off = round(100 * (c.full['dc_v'][i] / r.voltage_v - 1)) or 0  # no "-0"
+            out.append(f"{off:+d}")
         else:
             out.append("·")
     return " ".join(out)
