@@ -75,6 +75,8 @@ def test_pictures_and_page(run):
     page = (out / "s.html").read_text(encoding="utf-8")
     assert not EXTERNAL.search(page)
     assert 'id="spread"' in page
+    # the page is to be sent: the design by its file name, no folder of this machine
+    assert f"spread of {EXAMPLE.name}" in page and str(EXAMPLE.parent) not in page
     for line in CAUTION_LINES:
         assert html.escape(line, quote=True) in page
     tags = _Tags()

@@ -144,7 +144,8 @@ def render_spread(console, design: Design, s: SpreadSummary) -> None:
     """Print the spread of one design."""
     from rich.panel import Panel
 
-    console.rule(f"[bold]{design.title}[/]  ({design.source})")
+    console.rule(f"[bold]{design.file_name}[/]")
+    console.print(f"[bold]{design.title}[/]")
     settled = "" if s.converged == s.builds else (
         f"; [bold red]{s.builds - s.converged} did not settle[/] (counted as missing "
         "their targets)")

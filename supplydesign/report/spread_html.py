@@ -108,7 +108,7 @@ def spread_report_html(design: Design, s: SpreadSummary, svgs: Mapping[str, str]
     """A page of its own holding the spread section, with the cautions."""
     from .. import __version__
 
-    meta = f"supplydesign {__version__} spread of {_e(design.source)}"
+    meta = f"supplydesign {__version__} spread of {_e(design.file_name)}"
     body = [f"<header><h1>{_e(design.title)}</h1><p class=\"meta\">{meta}</p></header>",
             _caution_box(), spread_section_html(design, s, svgs, pictures), _caution_box()]
     return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
