@@ -86,13 +86,19 @@ class Spread:
     @property
     def meets(self) -> np.ndarray:
         """(N, R) bool: the build's rail lies within its voltage band and hum allowance."""
-        ok = np.repeat(self.converged[:, None], len(self.design.rails), axis=1)
-        for i, r in enumerate(self.design.rails):
-            if r.voltage_v is not None:
-                ok[:, i] &= np.abs(self.full.dc_v[:, i] - r.voltage_v) <= r.tolerance * r.voltage_v
-            if r.hum_v is not None:
-                ok[:, i] &= self.full.ripple_rms_v[:, i] <= r.hum_v
-        return ok
+        return meets_targets(self.design, self.full, self.converged)
+
+
+def meets_targets(design: Design, full: FigureArrays, converged: np.ndarray) -> np.ndarray:
+    """(N, R) bool: each settled build's rail lies within its ``voltage`` ± ``tolerance``
+    and its ``hum`` (a rail without targets always meets them)."""
+    ok = np.repeat(np.asarray(converged, dtype=bool)[:, None], len(design.rails), axis=1)
+    for i, r in enumerate(design.rails):
+        if r.voltage_v is not None:
+            ok[:, i] &= np.abs(full.dc_v[:, i] - r.voltage_v) <= r.tolerance * r.voltage_v
+        if r.hum_v is not None:
+            ok[:, i] &= full.ripple_rms_v[:, i] <= r.hum_v
+    return ok
 
 
 def _chunks(designs: list[Design], solve: Callable[[list[Design]], FigureArrays],
@@ -197,6 +203,47 @@ def run_spread(design: Design, catalog=None, *, builds: int = DEFAULT_BUILDS, se
     return Spread(design=design, factors=fs, seed=seed, multipliers=m, full=full,
                   idle_dc_v=idle_dc, cap_no_load_v=no_load, no_load_method=method,
                   surge_a=surge, converged=converged)
+
+
+@dataclass(frozen=True)
+class BuildYield:
+    """The yield of one design over its builds."""
+
+    passed: int
+    builds: int
+    converged: int
+    ci: tuple[float, float]
+
+    @property
+    def fraction(self) -> float:
+        return self.passed / self.builds
+
+
+def build_yields(designs: list[Design], catalog=None, *, builds: int = DEFAULT_BUILDS,
+                 seed: int = 1, steps: int = STEPS_PER_PERIOD,
+                 progress: Callable[[str, int, int], None] | None = None) -> list[BuildYield]:
+    """The yield of each of several designs, all their builds solved together.
+
+    Each design gets the builds :func:`run_spread` draws for it with the same seed,
+    solved at their own mains and full signal only (what the yield needs), the
+    builds of every design in one batch per topology. A design's yield here is its
+    ``run_spread`` yield, but for a build whose idle-current state (not solved here)
+    would not settle.
+    """
+    own: list[Design] = []
+    for d in designs:
+        fs = factors(d, catalog)
+        own += build_designs(d, fs, multipliers(fs, unit_sample(len(fs), builds, seed)))
+    full = _chunks(own, lambda ds: evaluate_arrays(ds, steps=steps), progress, "yield")
+    out = []
+    for k, d in enumerate(designs):
+        rows = np.arange(k * builds, (k + 1) * builds)
+        sub = FigureArrays(**{name: getattr(full, name)[rows]
+                              for name in FigureArrays.__dataclass_fields__})
+        passed = int(np.sum(np.all(meets_targets(d, sub, sub.converged), axis=1)))
+        out.append(BuildYield(passed, builds, int(np.sum(sub.converged)),
+                              yield_interval(passed, builds)))
+    return out
 
 
 # --------------------------------------------------------------------------- summary

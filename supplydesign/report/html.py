@@ -253,6 +253,13 @@ def _all_section(result, cur: str) -> str:
             f"cheapest first)</h2>{table}</section>")
 
 
+def _yield_section(result) -> str:
+    """The yield of the shown designs (synth --yield), or "" without it."""
+    from .spread_html import yield_section_html  # lazy: that module builds on this one
+
+    return yield_section_html(result)
+
+
 def _caution_box() -> str:
     items = "".join(f"<li>{_e(line)}</li>" for line in CAUTION_LINES)
     return (f'<div class="caution" role="note"><strong>Caution: lethal voltages.</strong>'
@@ -284,6 +291,7 @@ def synth_report_html(result, svgs: Mapping[str, str], waves: Mapping[int, Figur
                   [("picks", "picks"), ("front", "Pareto front")]
                   + [(f"design-{i + 1}", f"design #{i + 1}") for i in shown]
                   + ([("comparison", "choke against resistor")] if result.comparison else [])
+                  + ([("yield", "yield")] if result.extra.get("yield") else [])
                   + [("all", "every design")])
     meta = (f"supplydesign {__version__} synthesis of {_e(brief.file_name)} · "
             f"{result.evaluations} candidates evaluated · {len(result.designs)} verified "
@@ -301,7 +309,8 @@ def synth_report_html(result, svgs: Mapping[str, str], waves: Mapping[int, Figur
                          "are the picks. Sag is the worst rail's DC drop from idle to full "
                          "signal.", wide=True), HUM_NOTE, "</section>"]
         body += [_design_section(result, i, waves.get(i), svgs, width) for i in shown]
-        body += [_comparison_section(result, cur), _all_section(result, cur)]
+        body += [_comparison_section(result, cur), _yield_section(result),
+                 _all_section(result, cur)]
     body.append('<p class="note">Parts and prices come from the catalog in use; the built-in '
                 "catalog and the E-series price model are invented demo data, not market "
                 "prices. Figures are a model's: check them on the bench with care.</p>")

@@ -162,3 +162,36 @@ def render_spread(console, design: Design, s: SpreadSummary) -> None:
         console.print(hint, markup=False)
     console.print(Panel("\n".join((*CAUTION_LINES, SPREAD_CAUTION)), title="Caution",
                         border_style="yellow"))
+
+
+def render_yields(console, result) -> None:
+    """The yield of the shown designs of a synthesis run (``synth --yield N``)."""
+    info = result.extra.get("yield")
+    if not info:
+        return
+    marks: dict[int, list[str]] = {}
+    for name, (i, _) in result.picks.items():
+        marks.setdefault(i, []).append(name)
+    cur = result.currency or ""
+    t = _table(f"Yield over {info['builds']} builds of each shown design (seed {info['seed']})",
+               "#", "filter", f"cost {cur}".strip(), "yield (95 % interval)", "pick",
+               caption="Each build draws every part within its tolerance and the mains across "
+                       "its band, as supplydesign spread does; it meets the brief when every "
+                       "rail lies within its voltage band and hum allowance.")
+    t.columns[1].justify = "left"
+    t.columns[4].justify = "left"
+    for k, c in enumerate(result.designs):
+        if "yield" not in c.columns:
+            continue
+        y = c.columns["yield"]
+        style = "green" if y >= 0.95 else ("yellow" if y >= 0.8 else "bold red")
+        t.add_row(str(k + 1), c.notation, f"{c.cost:.2f}",
+                  f"[{style}]{pct(y)}[/] ({100 * c.columns['yield_low']:.1f}–"
+                  f"{pct(c.columns['yield_high'])})", ", ".join(marks.get(k, [])))
+    if t.row_count:
+        console.print(t)
+    least = result.extra.get("min_yield")
+    if least is not None:
+        console.print(f"--min-yield {100 * least:.3g} %: {result.extra['below_min_yield']} "
+                      "designs below it or not measured were left out; the picks are chosen "
+                      "among the rest.", markup=False)

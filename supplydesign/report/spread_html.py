@@ -103,6 +103,37 @@ def spread_section_html(design: Design, s: SpreadSummary, svgs: Mapping[str, str
     return "".join(parts)
 
 
+def yield_section_html(result) -> str:
+    """The ``yield`` section of a synthesis page: every shown design's yield over its
+    builds (``synth --yield N``); "" when the run measured none."""
+    info = result.extra.get("yield")
+    if not info:
+        return ""
+    marks: dict[int, list[str]] = {}
+    for name, (i, _) in result.picks.items():
+        marks.setdefault(i, []).append(name)
+    cur = result.currency or ""
+    rows = [[f"#{k + 1}", c.notation, f"{c.cost:.2f} {cur}".strip(),
+             yield_text(round(c.columns["yield"] * info["builds"]), info["builds"],
+                        (c.columns["yield_low"], c.columns["yield_high"])),
+             ", ".join(marks.get(k, []))]
+            for k, c in enumerate(result.designs) if "yield" in c.columns]
+    least = result.extra.get("min_yield")
+    note = "" if least is None else (
+        f'<p class="note">Designs whose yield is below {100 * least:.3g} % (or was not '
+        f"measured) were left out: {result.extra['below_min_yield']} of them; the picks are "
+        "chosen among the rest.</p>")
+    return (f'<section id="yield"><h2>Yield over {info["builds"]} builds of each shown '
+            f"design</h2>"
+            f'<p class="meta">Latin hypercube, seed {info["seed"]}: each build draws every part '
+            "within its tolerance and the mains across its band, as supplydesign spread does; "
+            "it meets the brief when every rail lies within its voltage band and hum "
+            f"allowance. 95 % intervals by {_e(YIELD_CI_METHOD)}.</p>"
+            + _table(["design", "filter", "cost", "yield (95 % interval)", "pick"], rows,
+                     numeric=(2, 3))
+            + note + f'<p class="note">{_e(SPREAD_CAUTION)}</p></section>')
+
+
 def spread_report_html(design: Design, s: SpreadSummary, svgs: Mapping[str, str],
                        pictures: tuple[str, str] | None = None) -> str:
     """A page of its own holding the spread section, with the cautions."""

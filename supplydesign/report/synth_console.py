@@ -98,7 +98,9 @@ def pareto_sheet(result, shown: list[int], marks: dict[int, list[str]]):
     return sheet, None if vary else _source(first)
 
 
-def render_synthesis(console, result, limit: int = 25) -> None:
+def render_synthesis(console, result, limit: int = 25, more=None) -> None:
+    """Print a synthesis run; ``more(console)``, when given, prints further tables (the
+    yields of synth --yield) before the cautions."""
     from rich.panel import Panel
 
     from .layout import print_sheet
@@ -148,4 +150,6 @@ def render_synthesis(console, result, limit: int = 25) -> None:
             f"{format_si(max(r.resistor_heat_w - c.resistor_heat_w, 0.0), 'W')} of heat",
         ]
         console.print(Panel("\n".join(lines), title="Choke against resistor"))
+    if more is not None:
+        more(console)
     console.print(Panel("\n".join(CAUTION_LINES), title="Caution", border_style="yellow"))

@@ -102,13 +102,17 @@ def write_run(result: SynthResult, out_dir: str, *, force: bool = False,
     buf = io.StringIO()
     w = csv.writer(buf)
     rails = [r.name for r in result.brief.rails]
-    w.writerow(["file", "notation", "cost", *result.objectives, *COLUMNS, "transformer",
+    # reported columns that only some runs give (the yield of synth --yield), after the rest
+    more = [k for k in dict.fromkeys(k for c in result.designs for k in c.columns)
+            if k not in COLUMNS]
+    w.writerow(["file", "notation", "cost", *result.objectives, *COLUMNS, *more, "transformer",
                 "rectifier",
                 *[f"{r} dc [V]" for r in rails], *[f"{r} hum [V]" for r in rails]])
     for e, c in zip(entries, result.designs, strict=True):
         w.writerow([e["file"], c.notation, f"{c.cost:.2f}",
                     *[f"{c.objectives[o]:.6g}" for o in result.objectives],
                     *[f"{c.columns.get(k, math.nan):.6g}" for k in COLUMNS],
+                    *[f"{c.columns.get(k, math.nan):.6g}" for k in more],
                     c.design.transformer.part or "", c.design.rectifier.part or "",
                     *[f"{v:.6g}" for v in c.full["dc_v"]],
                     *[f"{v:.6g}" for v in c.full["ripple_rms_v"]]])
