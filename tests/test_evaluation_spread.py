@@ -177,3 +177,30 @@ def test_a_valve_design_spreads_its_drop_and_reports_every_stress(two_seeds):
     assert ("rectifier", "peak current per anode") in what
     assert ("rectifier", "switch-on surge") in what
     assert a.converged == a.builds
+
+
+def test_with_a_bleeder_the_no_load_state_is_solved(ladder):
+    # a bleeder draws with the valves cold: the no-load state is solved, below the crest
+    from dataclasses import replace
+
+    design, _ = ladder
+    bled = design.with_rails([replace(design.rails[0], bleeder_ohm=47e3), *design.rails[1:]])
+    sp = run_spread(bled, builds=4, seed=1)
+    assert sp.no_load_method.startswith("no-load steady state")
+    crest = np.sqrt(2) * 300.0
+    assert np.all(sp.cap_no_load_v < crest) and np.all(sp.cap_no_load_v > 0.9 * crest)
+
+
+def test_a_choke_input_follows_its_surge_past_the_first_half_period(ladder):
+    # the input choke's current peaks near a quarter of its resonance period 2π√(LC)
+    # after switch-on [derived: circuit theory], so the run lasts half that period more
+    from dataclasses import replace
+
+    from supplydesign.design import Link
+    from supplydesign.evaluation.spread import surge_window_s
+
+    design, _ = ladder
+    first = replace(design.rails[0], link=Link("choke", resistance_ohm=100.0, inductance_h=10.0))
+    choked = design.with_rails([first, *design.rails[1:]])
+    assert surge_window_s(design) == pytest.approx(0.01)
+    assert surge_window_s(choked) == pytest.approx(0.01 + np.pi * np.sqrt(10.0 * 220e-6))
