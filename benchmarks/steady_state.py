@@ -19,10 +19,8 @@ import tracemalloc
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 
 from designs import four_rail_batch  # noqa: E402
+from spice_reference import settled_run  # noqa: E402
 
-from supplydesign.circuit.netlist import build  # noqa: E402
-from supplydesign.circuit.ngspice import measure_steady, run_ngspice  # noqa: E402
-from supplydesign.circuit.transient import settle_time_estimate  # noqa: E402
 from supplydesign.evaluation.analysis import evaluate  # noqa: E402
 
 
@@ -57,18 +55,9 @@ def main() -> None:
     spice_times = []
     worst = {"dc": 0.0, "ripple": 0.0, "peak": 0.0}
     for i in range(min(args.spice, args.batch)):
-        c = build([designs[i]])
-        t_stop = settle_time_estimate(c)
-        while True:  # lengthen the run until DC and ripple stop moving (two windows)
-            w0 = time.perf_counter()
-            res = run_ngspice(c, 0, t_stop_s=t_stop, timeout_s=600)
-            elapsed = time.perf_counter() - w0
-            m = measure_steady(res, designs[i].mains.frequency_hz)
-            moving = max(v for k, v in m["change"].items()
-                         if k.endswith("ripple_rms_v") or k.endswith("dc_v"))
-            if moving < 1e-3 or t_stop >= 60:
-                break
-            t_stop *= 2
+        elapsed, t_stop, m = settled_run(designs[i])
+        moving = max(v for k, v in m["change"].items()
+                     if k.endswith("ripple_rms_v") or k.endswith("dc_v"))
         spice_times.append(elapsed)
         f = figs[i]
         for ours_r, sp in zip(f.rails, m["rails"], strict=True):
