@@ -131,23 +131,23 @@ def five_rail_valve_batch(n: int, seed: int = 3) -> list[Design]:
                  current_a=u(0.01, 0.04), voltage_v=u(320, 400), tolerance=0.08,
                  hum_v=0.05),
             Rail("driver", "screens",
-                 Link("resistor", resistance_ohm=float(rng.choice([1, 2.2, 4.7])) * 1e3,
+                 Link("resistor", resistance_ohm=float(rng.choice([1, 1.5, 2.2])) * 1e3,
                       power_w=2.0),
-                 Capacitor(float(rng.choice([10, 22, 47])) * 1e-6, esr_ohm=u(1, 5),
+                 Capacitor(float(rng.choice([10, 22])) * 1e-6, esr_ohm=u(1, 5),
                            voltage_rating_v=450.0),
                  current_a=u(0.004, 0.012), voltage_v=u(280, 380), tolerance=0.1,
                  hum_v=0.01),
             Rail("input", "driver",
-                 Link("resistor", resistance_ohm=float(rng.choice([4.7, 10, 22])) * 1e3,
+                 Link("resistor", resistance_ohm=float(rng.choice([1.5, 2.2, 3.3])) * 1e3,
                       power_w=1.0),
-                 Capacitor(float(rng.choice([10, 22, 47])) * 1e-6, esr_ohm=u(1, 5),
+                 Capacitor(float(rng.choice([10, 22])) * 1e-6, esr_ohm=u(1, 5),
                            voltage_rating_v=450.0),
                  current_a=u(0.001, 0.004), voltage_v=u(250, 360), tolerance=0.1,
                  hum_v=0.003),
             Rail("preamp", "input",
-                 Link("resistor", resistance_ohm=float(rng.choice([10, 22, 47])) * 1e3,
+                 Link("resistor", resistance_ohm=float(rng.choice([3.3, 4.7, 6.8])) * 1e3,
                       power_w=0.5),
-                 Capacitor(float(rng.choice([22, 47, 100])) * 1e-6, esr_ohm=u(1, 5),
+                 Capacitor(float(rng.choice([10, 22])) * 1e-6, esr_ohm=u(1, 5),
                            voltage_rating_v=400.0),
                  current_a=u(0.0005, 0.002), voltage_v=u(200, 340), tolerance=0.12,
                  hum_v=0.001),
@@ -167,8 +167,8 @@ def mixed_topologies(n: int = 34, seed: int = 5) -> list[Design]:
     half-wave; valve and silicon; with and without leakage; capacitor and choke
     input (with a bleeder); one to seven rails; resistor and choke links; branches
     (two rails fed from one); a resistive load; 50 and 60 Hz. Values are drawn at
-    random within ranges a builder would use (each dropping resistor drops 5 to
-    40 V at the current it carries) and rounded to 3 significant figures.
+    random within ranges a builder would use (each dropping resistor drops 3 to
+    20 V at the current it carries) and rounded to 3 significant figures.
     """
     rng = np.random.default_rng(seed)
 
@@ -220,10 +220,10 @@ def mixed_topologies(n: int = 34, seed: int = 5) -> list[Design]:
                 link = Link("choke", inductance_h=float(rng.choice([3, 5, 10])),
                             resistance_ohm=u(60, 250))
             else:
-                link = Link("resistor", resistance_ohm=_sig3(rng.uniform(5, 40) / through[i]))
+                link = Link("resistor", resistance_ohm=_sig3(rng.uniform(3, 20) / through[i]))
             resistive = i == n_links and layout % 4 == 0
             rails.append(Rail(f"r{i}", f"r{parents[i]}", link,
-                              Capacitor(float(rng.choice([10, 22, 47])) * 1e-6,
+                              Capacitor(float(rng.choice([10, 22])) * 1e-6,
                                         esr_ohm=0.0 if i == 3 else u(1, 5)),
                               current_a=0.0 if resistive else own[i],
                               load_resistance_ohm=_sig3(300.0 / own[i]) if resistive else None))

@@ -19,7 +19,7 @@ import tracemalloc
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 
 from designs import four_rail_batch  # noqa: E402
-from spice_reference import settled_run  # noqa: E402
+from spice_reference import settled_change, settled_run  # noqa: E402
 
 from supplydesign.evaluation.analysis import evaluate  # noqa: E402
 
@@ -56,8 +56,7 @@ def main() -> None:
     worst = {"dc": 0.0, "ripple": 0.0, "peak": 0.0}
     for i in range(min(args.spice, args.batch)):
         elapsed, t_stop, m = settled_run(designs[i])
-        moving = max(v for k, v in m["change"].items()
-                     if k.endswith("ripple_rms_v") or k.endswith("dc_v"))
+        moving = settled_change(m)
         spice_times.append(elapsed)
         f = figs[i]
         for ours_r, sp in zip(f.rails, m["rails"], strict=True):

@@ -8,6 +8,7 @@ sees pint.
 from __future__ import annotations
 
 import math
+import re
 from functools import lru_cache
 
 from .errors import UserError
@@ -49,6 +50,25 @@ def registry():
     return ureg
 
 
+#: "<number> <unit>" with a single-word unit, the form nearly every file uses
+_SIMPLE = re.compile(r"\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*([^\W\d_]+|%)\s*")
+
+
+@lru_cache(maxsize=512)
+def _unit_factor(unit: str, dimension: str) -> float | None:
+    """The factor from ``unit`` to the SI unit of ``dimension``; None when the unit is
+    unknown, of another dimension or not a plain factor (an offset such as degC)."""
+    si_unit = DIMENSIONS[dimension][0]
+    ureg = registry()
+    try:
+        one, zero = (ureg.Quantity(v, unit).to(si_unit).magnitude for v in (1.0, 0.0))
+    except Exception:
+        return None
+    if zero != 0.0 or not isinstance(one, float) or not math.isfinite(one) or one == 0.0:
+        return None
+    return one
+
+
 def parse_quantity(text: object, dimension: str, *, file: str | None = None,
                    key: str | None = None) -> float:
     """Parse ``text`` (a string with units) into a SI float of ``dimension``.
@@ -72,7 +92,7 @@ def parse_quantity(text: object, dimension: str, *, file: str | None = None,
         For a bare number, an unknown unit, the wrong dimension or a value that
         is not finite.
     """
-    si_unit, word = DIMENSIONS[dimension]
+    word = DIMENSIONS[dimension][1]
     if isinstance(text, bool) or not isinstance(text, str):
         if isinstance(text, int | float):
             raise UserError(f"expected {word} (a string with a unit), got the bare number {text!r}",
@@ -81,9 +101,27 @@ def parse_quantity(text: object, dimension: str, *, file: str | None = None,
     stripped = text.strip()
     if not stripped:
         raise UserError(f"expected {word}, got an empty string", file, key)
+    simple = _SIMPLE.fullmatch(stripped)
+    if simple is not None:
+        # a number and one unit word: the unit's factor once per unit, not a pint parse per
+        # value (the same float as pint's after the rounding below; anything else, and
+        # every error, takes pint's path)
+        factor = _unit_factor(simple.group(2), dimension)
+        if factor is not None:
+            value = float(simple.group(1)) * factor
+            if math.isfinite(value):
+                return float(f"{value:.15g}")
+    return pint_value(stripped, dimension, file=file, key=key)
+
+
+def pint_value(text: str, dimension: str, *, file: str | None = None,
+               key: str | None = None) -> float:
+    """:func:`parse_quantity` through pint's own parser (every form pint reads, and the
+    error messages); ``text`` is stripped and not empty."""
+    si_unit, word = DIMENSIONS[dimension]
     ureg = registry()
     try:
-        q = ureg.Quantity(stripped)
+        q = ureg.Quantity(text)
     except Exception:
         raise UserError(f"expected {word}, could not read {text!r}", file, key) from None
     magnitude = q.magnitude

@@ -33,7 +33,7 @@ def test_shooting_equals_long_transient(kind, leakage, first):
     ss = build_state_space(build([_design(kind, leakage, first=first)]))
     st = periodic_steady_state(ss, steps=256)
     assert st.converged.all()
-    stepper = _Stepper(ss, discretize(ss, 1.0 / (50.0 * 256) * np.ones(1)), 256)
+    stepper = _Stepper.of(ss, discretize(ss, 1.0 / (50.0 * 256) * np.ones(1)), 256)
     x = initial_guess(ss)
     for _ in range(150):  # 3 s of circuit time; the slowest section settles in ~0.2 s
         xs, _, _, _ = stepper.run(x, np.arange(1), sens=False)
@@ -102,7 +102,7 @@ def test_light_choke_input_below_critical_settles():
     ss = build_state_space(build([design]))
     st = periodic_steady_state(ss, steps=256)
     assert st.converged.all()
-    stepper = _Stepper(ss, discretize(ss, 1.0 / (50.0 * 256) * np.ones(1)), 256)
+    stepper = _Stepper.of(ss, discretize(ss, 1.0 / (50.0 * 256) * np.ones(1)), 256)
     x = st.x[0]
     for _ in range(50):
         x = stepper.run(x, np.arange(1), sens=False)[0][-1]

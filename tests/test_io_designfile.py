@@ -37,7 +37,7 @@ from supplydesign.io import (
     save_design,
 )
 from supplydesign.io.tomlwrite import SIGNIFICANT_FIGURES, round_significant
-from supplydesign.units import parse_quantity
+from supplydesign.units import parse_quantity, pint_value
 
 EXAMPLES = sorted((Path(__file__).parent.parent / "examples").glob("*.toml"))
 
@@ -465,6 +465,36 @@ def test_round_trip_is_exact_for_awkward_values(c, r, i, f, p, tmp_path_factory)
                             "frequency", "power", "fraction"]))
 def test_format_quantity_reads_back(x, dim):
     assert math.isclose(parse_quantity(format_quantity(x, dim), dim), x, rel_tol=1e-12)
+
+
+UNITS = {"voltage": ["V", "kV", "mV"], "current": ["A", "mA", "uA", "µA"],
+         "resistance": ["ohm", "kohm", "Mohm", "Ω", "kΩ"],
+         "capacitance": ["F", "uF", "µF", "nF", "pF"],
+         "inductance": ["H", "mH"], "frequency": ["Hz"], "power": ["W", "mW"],
+         "time": ["s", "ms", "min"], "fraction": ["%", "percent"],
+         "temperature": ["K", "degC"]}
+
+
+@settings(max_examples=300, deadline=None)
+@given(x=st.floats(min_value=1e-6, max_value=1e6), digits=st.integers(1, 15),
+       data=st.data(), space=st.sampled_from(["", " ", "  "]))
+def test_quick_unit_path_is_pint(x, digits, data, space):
+    """The quick path for "<number> <unit>" gives pint's float exactly."""
+    dim = data.draw(st.sampled_from(sorted(UNITS)))
+    unit = data.draw(st.sampled_from(UNITS[dim]))
+    text = f"{x:.{digits}g}{space}{unit}"
+    assert parse_quantity(text, dim) == pint_value(text, dim)
+
+
+@pytest.mark.parametrize(("text", "dim"), [("2 V", "current"), ("47", "capacitance"),
+                                           ("47 uF uF", "capacitance"), ("1e999 V", "voltage"),
+                                           ("3 furlongs", "time"), ("-inf V", "voltage")])
+def test_quick_unit_path_errors_as_pint(text, dim):
+    with pytest.raises(UserError) as quick:
+        parse_quantity(text, dim)
+    with pytest.raises(UserError) as slow:
+        pint_value(text, dim)
+    assert str(quick.value) == str(slow.value)
 
 
 BRIEF = edited('capacitor = { capacitance = "22 uF" }', 'capacitor = "choose"')

@@ -189,11 +189,13 @@ def test_existing_picture_is_kept_without_force(run, tmp_path):
 
 def test_drawing_solves_nothing(run, monkeypatch):
     import supplydesign.evaluation.analysis as analysis
+    import supplydesign.evaluation.cases as cases
 
     def refuse(*a, **k):
         raise AssertionError("a picture tried to solve a circuit")
 
-    monkeypatch.setattr(analysis, "periodic_steady_state", refuse)
+    monkeypatch.setattr(analysis, "periodic_steady_states", refuse)
+    monkeypatch.setattr(cases, "periodic_steady_states", refuse)
     result, waves = run
     figs = pictures.synth_figures(result, waves)
     assert "pareto" in figs and len(figs) == 1 + 2 * len(waves)

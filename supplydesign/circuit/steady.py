@@ -43,6 +43,7 @@ References
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -55,8 +56,11 @@ from .statespace import Discrete, StateSpace, _stamp, discretize
 CURRENT_TOLERANCE_A = 1e-9
 #: relative residual at which a steady state counts as found (energy norm)
 SHOOTING_TOLERANCE = 1e-9
-#: relative residual below which Newton reuses the last monodromy matrix
-CHORD_BELOW = 1e-5
+#: relative residual below which Newton reuses the last monodromy matrix (a chord step,
+#: the matrix corrected along each step by Broyden's update)
+CHORD_BELOW = 1e-3
+#: a chord step must cut the residual this much for the next to be one too
+CHORD_RATE = 0.1
 #: periods of plain stepping before each further Newton attempt on designs that failed
 FALLBACK_PERIODS = 10
 #: further Newton attempts at most (each after FALLBACK_PERIODS plain periods)
@@ -162,6 +166,33 @@ def _newton_step(M: np.ndarray, r: np.ndarray, slow: np.ndarray) -> np.ndarray:
     return dx
 
 
+def _broyden(M: np.ndarray, rows: np.ndarray, dx: np.ndarray, dr: np.ndarray,
+             w: np.ndarray) -> None:
+    """Broyden's update of the monodromy matrices M[rows] after steps dx changed the
+    residual P(x) - x by dr, in the energy-weighted coordinates w x (padded states,
+    of weight 0, are left alone).
+
+    The Jacobian of the residual, M - I, is corrected along the step just taken so
+    that it reproduces the change seen (Broyden's "good" rank-one update), so that
+    chord steps near the fixed point keep converging fast without new sensitivities.
+
+    References
+    ----------
+    .. [1] C. G. Broyden, "A class of methods for solving nonlinear simultaneous
+       equations", Math. Comp. 19(92), 577-593 (1965).
+    """
+    if rows.size == 0:
+        return
+    ws = np.where(w > 0, w, 1.0)
+    sx, sr = w * dx, w * dr
+    Mt = M[rows] * ws[:, :, None] / ws[:, None, :]  # diag(w) M diag(1/w)
+    miss = sr - np.einsum("bij,bj->bi", Mt, sx) + sx  # what (M - I) dx failed to predict
+    nrm = np.sum(sx * sx, axis=1)
+    ok = nrm > 0
+    Mt[ok] += miss[ok, :, None] * sx[ok, None, :] / nrm[ok, None, None]
+    M[rows] = Mt / ws[:, :, None] * ws[:, None, :]
+
+
 def _trust_region(ss: StateSpace) -> tuple[np.ndarray, np.ndarray]:
     """Largest sensible change of each state in one Newton step, (B, nx), and the
     largest sensible junction voltage, (B, P) [V].
@@ -209,58 +240,268 @@ def _weighted_norm(w: np.ndarray, v: np.ndarray) -> np.ndarray:
     return np.sqrt(np.sum((w * v) ** 2, axis=-1))
 
 
+#: a silicon junction counts as off below this many n·V_T of reverse bias: it then
+#: passes its saturation current to within exp(-20) = 2e-9 of it
+OFF_BELOW_NVT = 20.0
+#: steps ahead the turn-on of a junction is looked for at once (see _OffMap)
+LOOKAHEAD_STEPS = 64
+
+
+class _OffMap:
+    """The exact period map over stretches in which no junction of the batch conducts.
+
+    While every junction is off (a valve anode at or below its cathode; a silicon
+    junction reverse-biased beyond ``OFF_BELOW_NVT`` n·V_T, passing its saturation
+    current), the network is linear and driven by the mains alone. One step is then
+    z -> Phi_off z for z = (x, s), the oscillator s turning by one step's angle, and
+    the junction currents held at their off value; n steps are Phi_off^n, applied as
+    the binary powers Phi_off^(2^i) that n is made of. This is the step-by-step map
+    itself, not an approximation of it: only the rounding differs.
+
+    When the next junction turns on is found by looking ``LOOKAHEAD_STEPS`` ahead at
+    once: the junction voltages j steps on are Cy Phi_off^j z (j = 1..L, the rows of
+    ``ahead``), and the stretch ends before the first step at which any junction of
+    the batch would be on.
+    """
+
+    def __init__(self, batch: _Batch, steps: int, lookahead: int = LOOKAHEAD_STEPS):
+        B, nx, P = batch.G0.shape
+        na = nx + 3
+        if batch.law == "valve":
+            self.u_off = np.zeros((B, P))
+            self.y_on = np.zeros((B, P))
+        else:
+            self.u_off = -batch.params["isat"]
+            self.y_on = -OFF_BELOW_NVT * batch.params["nvt"]
+        turn = 2.0 * np.pi / steps
+        phi = np.zeros((B, na, na))
+        phi[:, :nx, :nx] = batch.Phi
+        phi[:, :nx, nx:] = batch.Phis
+        phi[:, :nx, nx + 2] += ((batch.G0 + batch.G1) @ self.u_off[..., None])[..., 0]
+        phi[:, nx:, nx:] = [[np.cos(turn), np.sin(turn), 0.0],
+                            [-np.sin(turn), np.cos(turn), 0.0], [0.0, 0.0, 1.0]]
+        self.powers = [phi]
+        while 2 ** len(self.powers) <= steps:
+            self.powers.append(self.powers[-1] @ self.powers[-1])
+        self.powers_x = [p[:, :nx, :nx].copy() for p in self.powers]
+        L = min(lookahead, steps)
+        ahead = np.empty((B, L, P, na))
+        row = np.zeros((B, P, na))
+        row[:, :, :nx] = batch.Cy
+        for j in range(L):
+            row = row @ phi
+            ahead[:, j] = row
+        self.ahead = ahead.reshape(B, L * P, na)
+        self.lookahead = L
+
+    def subset(self, sel: np.ndarray) -> _OffMap:
+        out = object.__new__(_OffMap)
+        out.u_off, out.y_on = self.u_off[sel], self.y_on[sel]
+        out.powers = [p[sel] for p in self.powers]
+        out.powers_x = [p[sel] for p in self.powers_x]
+        out.ahead, out.lookahead = self.ahead[sel], self.lookahead
+        return out
+
+    def off_steps(self, z: np.ndarray, most: int) -> int:
+        """How many steps from state z (B, na) every junction stays off, up to ``most``."""
+        L = min(self.lookahead, most)
+        P = self.y_on.shape[1]
+        y = (self.ahead[:, : L * P] @ z[..., None])[..., 0].reshape(z.shape[0], L, P)
+        on = np.any(y > self.y_on[:, None, :], axis=(0, 2))
+        return int(np.argmax(on)) if on.any() else L
+
+    def jump(self, z: np.ndarray, n: int) -> np.ndarray:
+        """The state n steps on, (B, na)."""
+        for i, p in enumerate(self.powers):
+            if n >> i & 1:
+                z = (p @ z[..., None])[..., 0]
+        return z
+
+    def states(self, z: np.ndarray, n: int) -> np.ndarray:
+        """The states 1..n steps on, (n, B, na), by doubling: the second m of them are
+        Phi_off^m times the first m."""
+        block = self.powers[0] @ z[..., None]  # (B, na, m) with m = 2^i states so far
+        i = 0
+        while block.shape[2] < n:
+            take = min(block.shape[2], n - block.shape[2])
+            block = np.concatenate([block, self.powers[i] @ block[..., :take]], axis=2)
+            i += 1
+        return block.transpose(2, 0, 1)
+
+    def jump_sensitivity(self, S: np.ndarray, n: int) -> np.ndarray:
+        """The sensitivity of the state to the period's start, n steps on."""
+        for i, p in enumerate(self.powers_x):
+            if n >> i & 1:
+                S = p @ S
+        return S
+
+
+@dataclass
+class _Batch:
+    """What the shooting works on: the discrete step of one or several state-space
+    models of one junction law and one port count, their states padded with inert
+    zeros to the largest model (a padded state starts at 0, is never driven and never
+    moves), so that designs of several topologies are stepped as one array."""
+
+    law: str
+    params: dict[str, np.ndarray]  # (B, P) each, with the constants of with_constants
+    Cy: np.ndarray  # (B, P, nx)
+    Phi: np.ndarray  # (B, nx, nx)
+    Phis: np.ndarray  # (B, nx, 3)
+    G0: np.ndarray  # (B, nx, P)
+    G1: np.ndarray  # (B, nx, P)
+    weights: np.ndarray  # (B, nx), 0 for padded states
+    vscale: np.ndarray  # (B,) largest winding emf [V]
+    limit: np.ndarray  # (B, nx) trust region of each state
+    y_max: np.ndarray  # (B, P) largest sensible junction voltage [V]
+
+    @classmethod
+    def of(cls, models: Sequence[StateSpace], discs: Sequence[Discrete]) -> _Batch:
+        """The batch of ``models`` (one law and port count), each with its discretisation."""
+        nx = max(ss.nx for ss in models)
+        law = models[0].circuit.topology.law
+
+        def pad(arrays, cols_too):
+            out = []
+            for a in arrays:
+                width = [(0, 0)] * a.ndim
+                width[1] = (0, nx - a.shape[1])
+                if cols_too:
+                    width[2] = (0, nx - a.shape[2])
+                out.append(np.pad(a, width))
+            return np.concatenate(out)
+
+        def cols(arrays):
+            return np.concatenate([np.pad(a, ((0, 0), (0, 0), (0, nx - a.shape[2])))
+                                   for a in arrays])
+
+        trust = [_trust_region(ss) for ss in models]
+        params = {p: np.concatenate([ss.port_params[p] for ss in models])
+                  for p in models[0].port_params}
+        return cls(
+            law=law, params=with_constants(law, params),
+            Cy=cols([ss.Cy for ss in models]),
+            Phi=pad([d.Phi for d in discs], True), Phis=pad([d.Phis for d in discs], False),
+            G0=pad([d.G0 for d in discs], False), G1=pad([d.G1 for d in discs], False),
+            weights=np.concatenate([np.pad(ss.weights, ((0, 0), (0, nx - ss.nx)))
+                                    for ss in models]),
+            vscale=np.concatenate([_max_emf(ss) for ss in models]),
+            limit=np.concatenate([np.pad(t[0], ((0, 0), (0, nx - t[0].shape[1])),
+                                         constant_values=1.0) for t in trust]),
+            y_max=np.concatenate([t[1] for t in trust]))
+
+    @property
+    def size(self) -> int:
+        return self.Phi.shape[0]
+
+    @property
+    def nx(self) -> int:
+        return self.Phi.shape[1]
+
+
 class _Stepper:
     """One-period stepping of a (sub)batch, with optional monodromy."""
 
-    def __init__(self, ss: StateSpace, disc: Discrete, steps: int):
-        self.law = ss.circuit.topology.law
-        self.params_all = ss.port_params
+    def __init__(self, batch: _Batch, steps: int, start: int = 0):
+        self.batch = batch
+        self.law = batch.law
+        self.params_all = batch.params
         self.steps = steps
-        k = np.arange(steps + 1)
-        phase = 2.0 * np.pi * k / steps
-        self.s = np.stack([np.sin(phase), np.cos(phase), np.ones_like(phase)], axis=1)
-        self.ss, self.disc = ss, disc
+        self.s = self.oscillator(steps, start)  # the period runs from phase start/steps
         # oscillator forcing of every step: (steps, B, nx)
-        self.forcing_all = np.einsum("bij,kj->kbi", disc.Phis, self.s[:-1])
-        self.Z_all = ss.Cy @ disc.G1  # (B, P, P)
-        self.vscale_all = _max_emf(ss)  # voltage scale of each design
+        self.forcing_all = np.einsum("bij,kj->kbi", batch.Phis, self.s[:-1])
+        self.Z_all = batch.Cy @ batch.G1  # (B, P, P)
+        self.off_all = _OffMap(batch, steps)
 
-    def run(self, x0: np.ndarray, sel: np.ndarray, sens: bool):
-        ss, disc = self.ss, self.disc
-        Phi, G0, G1, Cy = disc.Phi[sel], disc.G0[sel], disc.G1[sel], ss.Cy[sel]
-        Z = self.Z_all[sel]
-        params = with_constants(self.law, {p: v[sel] for p, v in self.params_all.items()})
-        vscale = self.vscale_all[sel]
-        forcing = self.forcing_all[:, sel]
-        law = self.law
+    @staticmethod
+    def oscillator(steps: int, start: int = 0) -> np.ndarray:
+        """(sin, cos, 1) of the mains phase at steps start .. start + steps, (steps + 1, 3)."""
+        phase = 2.0 * np.pi * (np.arange(steps + 1) + start) / steps
+        return np.stack([np.sin(phase), np.cos(phase), np.ones_like(phase)], axis=1)
+
+    @classmethod
+    def of(cls, ss: StateSpace, disc: Discrete, steps: int) -> _Stepper:
+        return cls(_Batch.of([ss], [disc]), steps)
+
+    def run(self, x0: np.ndarray, sel: np.ndarray, sens: bool, record: bool = True):
+        """One period from states x0 of designs ``sel``.
+
+        Returns the states, junction currents and junction voltages at every step,
+        (steps + 1, len(sel), ...), and the sensitivity of the end state to x0
+        (None without ``sens``). Without ``record`` only the end state is kept: states
+        of shape (1, len(sel), nx), currents and voltages None.
+        """
+        bt = self.batch
+        full = sel.size == bt.size
+        pick = (lambda a: a) if full else (lambda a: a[sel])
+        Phi, G0, G1, Cy = pick(bt.Phi), pick(bt.G0), pick(bt.G1), pick(bt.Cy)
+        Z = pick(self.Z_all)
+        params = {p: pick(v) for p, v in self.params_all.items()}
+        vscale = pick(bt.vscale)
+        forcing = self.forcing_all if full else self.forcing_all[:, sel]
+        off = self.off_all if full else self.off_all.subset(sel)
+        law, steps, s = self.law, self.steps, self.s
         B, nx = x0.shape
         P = Cy.shape[1]
-        xs = np.empty((self.steps + 1, B, nx))
-        us = np.empty((self.steps + 1, B, P))
-        ys = np.empty((self.steps + 1, B, P))
+        if record:
+            xs = np.empty((steps + 1, B, nx))
+            us = np.empty((steps + 1, B, P))
+            ys = np.empty((steps + 1, B, P))
         x = x0
         y = np.einsum("bpi,bi->bp", Cy, x)
         u, g = junction(law, y, params)
-        xs[0], us[0], ys[0] = x, u, y
+        if record:
+            xs[0], us[0], ys[0] = x, u, y
         S = None
         if sens:
-            # sensitivity to the slow states only (see StateSpace.slow)
-            S = np.broadcast_to(np.eye(nx)[:, ss.slow], (B, nx, ss.slow.size)).copy()
+            S = np.broadcast_to(np.eye(nx), (B, nx, nx)).copy()
             W = g[:, :, None] * Cy
         eyeP = np.eye(P)
         PhiG0 = np.concatenate([Phi, G0], axis=2)  # x[k+1] before u[k+1]: one product
-        for k in range(self.steps):
+        k = 0
+        y_prev = y
+        while k < steps:
+            if np.all(y <= off.y_on):
+                # every junction is off: jump over the steps until one turns on
+                z = np.concatenate([x, np.broadcast_to(s[k], (B, 3))], axis=1)
+                n = off.off_steps(z, steps - k)
+                if n > 0:
+                    if record:
+                        zs = off.states(z, n)
+                        xs[k + 1:k + n + 1] = zs[:, :, :nx]
+                        ys[k + 1:k + n + 1] = np.einsum("bpi,kbi->kbp", Cy, zs[:, :, :nx])
+                        us[k + 1:k + n + 1] = junction(law, ys[k + 1:k + n + 1], params)[0]
+                        z = zs[-1]
+                    else:
+                        z = off.jump(z, n)
+                    if sens:
+                        S = off.jump_sensitivity(S, n)
+                    k += n
+                    x = z[:, :nx]
+                    y = np.einsum("bpi,bi->bp", Cy, x)
+                    y_prev = y
+                    u, g = junction(law, y, params)
+                    if sens:
+                        W = g[:, :, None] * Cy
+                    continue
             xu = np.concatenate([x, u], axis=1)[..., None]
             xp = (PhiG0 @ xu)[..., 0] + forcing[k]
             b = (Cy @ xp[..., None])[..., 0]
-            y, u, g = solve_junctions(b, Z, y, law, params, vscale)
+            # the junction solve starts from the junction voltages extrapolated linearly
+            guess = 2.0 * y - y_prev
+            y_prev = y
+            y, u, g = solve_junctions(b, Z, guess, law, params, vscale)
             x = xp + (G1 @ u[..., None])[..., 0]
-            xs[k + 1], us[k + 1], ys[k + 1] = x, u, y
+            k += 1
+            if record:
+                xs[k], us[k], ys[k] = x, u, y
             if sens:
                 R = Phi @ S + G0 @ (W @ S)
                 W = g[:, :, None] * Cy
                 K = eyeP - W @ G1
                 S = R + G1 @ _solve_small(K, W @ R)
+        if not record:
+            return x[None], None, None, S
         return xs, us, ys, S
 
 
@@ -376,16 +617,87 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD,
         most) on designs that did not converge (default ``FALLBACK_PERIODS``; 0 for
         none, as in the search, where an unsettled candidate is simply infeasible).
     """
+    return periodic_steady_states([ss], steps, tol, max_iter, [x0], fallback_periods)[0]
+
+
+def periodic_steady_states(models: Sequence[StateSpace],
+                           steps: int | Sequence[int] = STEPS_PER_PERIOD,
+                           tol: float = SHOOTING_TOLERANCE, max_iter: int = 12,
+                           x0s: Sequence[np.ndarray | None] | None = None,
+                           fallback_periods: int | None = None) -> list[SteadyState]:
+    """:func:`periodic_steady_state` of several batches at once, in the order given.
+
+    Batches of one junction law, one port count (rectifier arrangement) and one
+    number of steps are solved as one array, their states padded to the largest
+    (see :class:`_Batch`): one Python loop over the steps of a period for all of
+    them, however many topologies they hold. ``steps`` and ``x0s`` are one value
+    for all or one per model.
+    """
+    n = len(models)
+    steps_of = [steps] * n if isinstance(steps, int) else list(steps)
+    x0s = [None] * n if x0s is None else list(x0s)
+    groups: dict[tuple, list[int]] = {}
+    for i, ss in enumerate(models):
+        key = (ss.circuit.topology.law, ss.Cy.shape[1], steps_of[i], _choke_input(ss))
+        groups.setdefault(key, []).append(i)
+    out: list[SteadyState | None] = [None] * n
+    for (_law, _ports, n_steps, choke_input), members in groups.items():
+        mods = [models[i] for i in members]
+        discs = [discretize(ss, 1.0 / (ss.circuit.frequency_hz * n_steps)) for ss in mods]
+        batch = _Batch.of(mods, discs)
+        x0 = np.zeros((batch.size, batch.nx))
+        row = 0
+        for i, ss in zip(members, mods, strict=True):
+            x0[row:row + ss.A.shape[0], :ss.nx] = initial_guess(ss) if x0s[i] is None else x0s[i]
+            row += ss.A.shape[0]
+        # A choke input commutates from one anode to the next at the zero crossings of
+        # the mains; a period cut there makes the period map kink (Newton overshoots and
+        # needs further attempts), so it is shot from the crest, mid-conduction, and the
+        # samples are put back in phase order afterwards. The discrete steady state is
+        # the same sequence of samples wherever the period is cut.
+        start = n_steps // 4 if choke_input else 0
+        x, u, y, s, converged, iterations, residual = _shoot(batch, n_steps, tol, max_iter, x0,
+                                                             fallback_periods, start)
+        x, u, y = (_from_phase_zero(a, start) for a in (x, u, y))
+        row = 0
+        for i, ss, disc in zip(members, mods, discs, strict=True):
+            rows = slice(row, row + ss.A.shape[0])
+            row = rows.stop
+            out[i] = SteadyState(ss, disc, x[:, rows, :ss.nx], u[:, rows], y[:, rows], s,
+                                 converged[rows], iterations[rows], residual[rows])
+    return out  # type: ignore[return-value]
+
+
+def _choke_input(ss: StateSpace) -> bool:
+    """Whether the filter starts with a choke (the netlist damps such a choke)."""
+    return any(e.role and e.role[0] == "choke_damping" for e in ss.circuit.topology.elements)
+
+
+def _from_phase_zero(a: np.ndarray, start: int) -> np.ndarray:
+    """Samples (steps + 1, ...) of a period shot from step ``start`` put back in order
+    from mains phase 0. The shooting's small remaining drift (last sample against the
+    first) is spread linearly over the period in shooting order first, so that the
+    result is exactly periodic, as :func:`~supplydesign.evaluation.analysis.detrended`
+    would make it."""
+    if start == 0:
+        return a
+    steps = a.shape[0] - 1
+    ramp = (np.arange(steps + 1) / steps).reshape(-1, *([1] * (a.ndim - 1)))
+    a = a - ramp * (a[-1] - a[0])
+    return np.concatenate([a[steps - start:steps], a[:steps - start + 1]])
+
+
+def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
+           fallback_periods: int | None, start: int = 0):
+    """Newton shooting on a batch from states x at step ``start`` of the period (see the
+    module docstring)."""
     if fallback_periods is None:
         fallback_periods = FALLBACK_PERIODS
-    B, nx = ss.A.shape[0], ss.nx
-    h = 1.0 / (ss.circuit.frequency_hz * steps)
-    disc = discretize(ss, h)
-    stepper = _Stepper(ss, disc, steps)
-    x = initial_guess(ss) if x0 is None else x0.copy()
-    w = ss.weights
-    limit, y_max = _trust_region(ss)
-    P = ss.Cy.shape[1]
+    B, nx = batch.size, batch.nx
+    stepper = _Stepper(batch, steps, start)
+    w = batch.weights
+    limit, y_max, Cy = batch.limit, batch.y_max, batch.Cy
+    slow = np.arange(nx)
 
     best_x = x.copy()
     best_r = np.full(B, np.inf)
@@ -394,15 +706,19 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD,
     converged = np.zeros(B, dtype=bool)
     iterations = np.zeros(B, dtype=int)
     residual = np.full(B, np.inf)
-    out_x = np.empty((steps + 1, B, nx))
-    out_u = np.empty((steps + 1, B, P))
-    out_y = np.empty((steps + 1, B, P))
     trial = x.copy()
     # Near the fixed point Newton converges quadratically: once every active design's
     # residual is below CHORD_BELOW, the period runs without sensitivities and the
     # step reuses the last monodromy matrix (a chord step).
-    monodromy = np.zeros((B, nx, ss.slow.size))
+    monodromy = np.zeros((B, nx, nx))
     near = np.zeros(B, dtype=bool)
+    best_res = np.zeros((B, nx))  # P(x) - x at best_x
+    # the period of each design's best start, kept from the chord runs, which record it
+    P = batch.Cy.shape[1]
+    out_x = np.empty((steps + 1, B, nx))
+    out_u = np.empty((steps + 1, B, P))
+    out_y = np.empty((steps + 1, B, P))
+    recorded = np.zeros(B, dtype=bool)
 
     def newton(active: np.ndarray, n_iter: int) -> None:
         near[active] = False
@@ -410,29 +726,37 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD,
         step[active] = 0.0
         for _it in range(n_iter):
             sens = not np.all(near[active])
-            xs, us, ys, S = stepper.run(trial[active], active, sens=sens)
-            r = xs[-1] - xs[0]
-            rel = _weighted_norm(w[active], r) / np.maximum(_weighted_norm(w[active], xs[0]),
+            start = trial[active]
+            xs, us, ys, S = stepper.run(start, active, sens=sens, record=not sens)
+            r = xs[-1] - start
+            rel = _weighted_norm(w[active], r) / np.maximum(_weighted_norm(w[active], start),
                                                              1e-300)
             iterations[active] += 1
             improved = rel < best_r[active]
             # accept improved trials; the others go back towards the best point
             acc = active[improved]
+            if not sens:
+                _broyden(monodromy, acc, trial[acc] - best_x[acc], r[improved] - best_res[acc],
+                         w[acc])
+                out_x[:, acc], out_u[:, acc] = xs[:, improved], us[:, improved]
+                out_y[:, acc] = ys[:, improved]
+            recorded[acc] = not sens
+            before = best_r[active]
             best_r[acc] = rel[improved]
             best_x[acc] = trial[acc]
+            best_res[acc] = r[improved]
             residual[acc] = rel[improved]
-            out_x[:, acc], out_u[:, acc] = xs[:, improved], us[:, improved]
-            out_y[:, acc] = ys[:, improved]
             done = improved & (rel < tol)
             converged[active[done]] = True
             go = improved & ~done
             if sens:
                 monodromy[active] = S
-            near[active] = sens & improved & (rel < CHORD_BELOW)
+            # chord steps go on while each cuts the residual CHORD_RATE-fold
+            near[active] = improved & (rel < CHORD_BELOW) & (sens | (rel < CHORD_RATE * before))
             if np.any(go):
                 ag = active[go]
-                step[ag] = _limit_step(_newton_step(monodromy[ag], r[go], ss.slow),
-                                       best_x[ag], limit[ag], ss.Cy[ag], y_max[ag])
+                step[ag] = _limit_step(_newton_step(monodromy[ag], r[go], slow),
+                                       best_x[ag], limit[ag], Cy[ag], y_max[ag])
                 lam[active[go]] = 1.0
             back = ~improved
             lam[active[back]] *= 0.5
@@ -454,14 +778,11 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD,
         if failed.size == 0:
             break
         if rec is None:
-            rec = (best_r.copy(), best_x.copy(), residual.copy(), out_x.copy(), out_u.copy(),
-                   out_y.copy())
+            rec = (best_r.copy(), best_x.copy(), residual.copy())
         else:
             better = failed[best_r[failed] < rec[0][failed]]
-            for kept, now in zip(rec, (best_r, best_x, residual), strict=False):
+            for kept, now in zip(rec, (best_r, best_x, residual), strict=True):
                 kept[better] = now[better]
-            for kept, now in zip(rec[3:], (out_x, out_u, out_y), strict=True):
-                kept[:, better] = now[:, better]
         # the plain periods, then the rest of their geometric decay at once: the last two
         # changes d_prev, d give the ratio q of the slowest mode, and the remaining
         # changes sum to d q / (1 - q) (Aitken's extrapolation along d), kept to the
@@ -469,13 +790,13 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD,
         xr = best_x[failed]
         d = d_prev = np.zeros_like(xr)
         for _ in range(fallback_periods):
-            xn = stepper.run(xr, failed, sens=False)[0][-1]
+            xn = stepper.run(xr, failed, sens=False, record=False)[0][-1]
             d_prev, d, xr = d, xn - xr, xn
         wf = w[failed]
         q = np.clip(_weighted_norm(wf, d) / np.maximum(_weighted_norm(wf, d_prev), 1e-300),
                     0.0, MAX_DECAY_RATIO if fallback_periods > 1 else 0.0)
         xr = xr + _limit_step(d * (q / (1.0 - q))[:, None], xr, limit[failed],
-                              ss.Cy[failed], y_max[failed])
+                              Cy[failed], y_max[failed])
         trial[failed] = xr
         best_r[failed] = np.inf
         newton(failed, max_iter)
@@ -483,7 +804,9 @@ def periodic_steady_state(ss: StateSpace, steps: int = STEPS_PER_PERIOD,
         worse = np.flatnonzero(~converged & (rec[0] < best_r))
         best_r[worse], best_x[worse], residual[worse] = (rec[0][worse], rec[1][worse],
                                                          rec[2][worse])
-        out_x[:, worse], out_u[:, worse], out_y[:, worse] = (rec[3][:, worse],
-                                                             rec[4][:, worse],
-                                                             rec[5][:, worse])
-    return SteadyState(ss, disc, out_x, out_u, out_y, stepper.s, converged, iterations, residual)
+        recorded[worse] = False
+    missing = np.flatnonzero(~recorded)
+    if missing.size:
+        xs, us, ys, _ = stepper.run(best_x[missing], missing, sens=False)
+        out_x[:, missing], out_u[:, missing], out_y[:, missing] = xs, us, ys
+    return out_x, out_u, out_y, _Stepper.oscillator(steps), converged, iterations, residual

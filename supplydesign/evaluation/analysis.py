@@ -15,7 +15,7 @@ import numpy as np
 from ..circuit import formulas
 from ..circuit.netlist import GROUND, NOMINAL, Circuit, OperatingCase, build, solving_groups
 from ..circuit.statespace import build_state_space
-from ..circuit.steady import STEPS_PER_PERIOD, SteadyState, periodic_steady_state
+from ..circuit.steady import STEPS_PER_PERIOD, SteadyState, periodic_steady_states
 from ..design import Design
 from .figures import Figures, RailFigures, RectifierFigures, TransformerFigures, Waveforms
 
@@ -133,12 +133,12 @@ def solve(designs: Sequence[Design], case: OperatingCase = NOMINAL,
     ``steps`` per mains period at least; designs with a fast charging loop get more
     (:func:`~supplydesign.circuit.netlist.steps_needed`) and a batch of their own.
     """
-    out = []
-    for idx, n_steps in solving_groups(designs, steps):
-        circuit = build([designs[i] for i in idx], case)
-        steady = periodic_steady_state(build_state_space(circuit), steps=n_steps)
-        out.append((idx, Solved(circuit, steady)))
-    return out
+    groups = solving_groups(designs, steps)
+    circuits = [build([designs[i] for i in idx], case) for idx, _ in groups]
+    steadies = periodic_steady_states([build_state_space(c) for c in circuits],
+                                      [n for _, n in groups])
+    return [(idx, Solved(c, st))
+            for (idx, _), c, st in zip(groups, circuits, steadies, strict=True)]
 
 
 @dataclass

@@ -24,7 +24,7 @@ import numpy as np
 
 from ..circuit.netlist import Circuit, OperatingCase, build, solving_groups
 from ..circuit.statespace import build_state_space
-from ..circuit.steady import STEPS_PER_PERIOD, initial_guess, periodic_steady_state
+from ..circuit.steady import STEPS_PER_PERIOD, initial_guess, periodic_steady_states
 from ..design import Design
 from .analysis import FigureArrays, Solved, figure_arrays, figures_of
 from .figures import Figures
@@ -92,13 +92,28 @@ def solve_circuit(circuit: Circuit, steps: int = STEPS_PER_PERIOD,
     Without load Newton gets NO_LOAD_ITERATIONS at most: where it has not
     converged by then it rarely does later, and the caller bounds the figures.
     """
-    ss = build_state_space(circuit)
-    iterations = {}
-    if _no_load(circuit):
-        iterations = {"max_iter": NO_LOAD_ITERATIONS}
-        if x0 is None:
-            x0 = crest_guess(circuit, ss)
-    return Solved(circuit, periodic_steady_state(ss, steps=steps, x0=x0, **iterations))
+    return solve_circuits([circuit], [steps], [x0])[0]
+
+
+def solve_circuits(circuits: Sequence[Circuit], steps: Sequence[int],
+                   x0s: Sequence[np.ndarray | None] | None = None) -> list[Solved]:
+    """:func:`solve_circuit` of several circuits (any topologies), solved together as far
+    as :func:`~supplydesign.circuit.steady.periodic_steady_states` can."""
+    x0s = [None] * len(circuits) if x0s is None else list(x0s)
+    models = [build_state_space(c) for c in circuits]
+    out: list = [None] * len(circuits)
+    for cold in (False, True):
+        which = [i for i, c in enumerate(circuits) if _no_load(c) == cold]
+        if not which:
+            continue
+        starts = [x0s[i] if x0s[i] is not None or not cold else crest_guess(circuits[i], models[i])
+                  for i in which]
+        iterations = {"max_iter": NO_LOAD_ITERATIONS} if cold else {}
+        steadies = periodic_steady_states([models[i] for i in which], [steps[i] for i in which],
+                                          x0s=starts, **iterations)
+        for i, st in zip(which, steadies, strict=True):
+            out[i] = Solved(circuits[i], st)
+    return out
 
 
 def _no_load(circuit: Circuit) -> bool:
@@ -171,7 +186,9 @@ def solve_cases(designs: Sequence[Design], cases: Sequence[Case],
     place before the solve (such as loads scaled for a slope).
     """
     parts: dict[str, list] = {c.name: [] for c in cases}
-    for idx, n_steps in solving_groups(designs, steps):
+    groups = solving_groups(designs, steps)
+    batches = []
+    for idx, _n_steps in groups:
         sub = [designs[i] for i in idx]
         circuits = []
         for c in cases:
@@ -179,7 +196,9 @@ def solve_cases(designs: Sequence[Design], cases: Sequence[Case],
             if adjust is not None:
                 adjust(c, circuit)
             circuits.append(circuit)
-        solved = solve_circuit(concatenate(circuits), n_steps)
+        batches.append(concatenate(circuits))
+    solved_all = solve_circuits(batches, [n for _, n in groups])
+    for (idx, _n_steps), solved in zip(groups, solved_all, strict=True):
         arrays = figure_arrays(solved)
         n = len(idx)
         for k, c in enumerate(cases):
