@@ -90,31 +90,98 @@ class SteadyState:
         return self.x.shape[0] - 1
 
 
-def _solve_small(J: np.ndarray, r: np.ndarray) -> np.ndarray:
-    """Solve J z = r for stacks of tiny systems: J (B, P, P), r (B, P) or (B, P, K)."""
-    vec = r.ndim == J.ndim - 1
-    if vec:
-        r = r[..., None]
-    P = J.shape[-1]
-    if P == 1:
-        z = r / J
-    elif P == 2:
-        a, b = J[:, 0, 0, None], J[:, 0, 1, None]
-        c, d = J[:, 1, 0, None], J[:, 1, 1, None]
-        inv_det = 1.0 / (a * d - b * c)
-        r0, r1 = r[:, 0], r[:, 1]
-        z = np.empty(r.shape)
-        z[:, 0] = (d * r0 - b * r1) * inv_det
-        z[:, 1] = (a * r1 - c * r0) * inv_det
-    else:
-        z = np.linalg.solve(J, r)
-    return z[..., 0] if vec else z
+class _Junctions:
+    """The implicit junction solve of one step, y = b + Z f(y), for a (sub)batch, with
+    what every step shares worked out once (see :func:`solve_junctions`).
+
+    One or two junctions (half-wave, full-wave) are solved entry by entry on
+    contiguous arrays: numpy's stacked products of 2 x 2 matrices cost more than the
+    few element-wise operations they stand for."""
+
+    def __init__(self, law: str, params: dict[str, np.ndarray], Z: np.ndarray,
+                 vscale: np.ndarray, max_iter: int = 60):
+        self.law, self.params, self.Z = law, params, Z
+        self.P = Z.shape[-1]
+        self.tol = 1e-7 * np.max(vscale)  # [V]
+        self.eye = np.eye(self.P)
+        self.max_iter = max_iter
+        if law == "silicon":
+            self.off_below = -OFF_BELOW_NVT * params["nvt"]
+        if self.P <= 2:
+            self.z = [[np.ascontiguousarray(Z[:, p, q]) for q in range(self.P)]
+                      for p in range(self.P)]
+
+    def times_Z(self, i: np.ndarray) -> np.ndarray:
+        """Z i for currents i (B, P)."""
+        if self.P == 1:
+            return self.z[0][0][:, None] * i
+        if self.P == 2:
+            z, i0, i1 = self.z, i[:, 0], i[:, 1]
+            return np.stack([z[0][0] * i0 + z[0][1] * i1, z[1][0] * i0 + z[1][1] * i1], axis=1)
+        return (self.Z @ i[..., None])[..., 0]
+
+    def _newton(self, g: np.ndarray, res: np.ndarray) -> np.ndarray:
+        """(I - Z diag(g))^-1 res for res (B, P): the junction Newton step."""
+        if self.P == 1:
+            return res / (1.0 - self.z[0][0][:, None] * g)
+        if self.P == 2:
+            z, g0, g1, r0, r1 = self.z, g[:, 0], g[:, 1], res[:, 0], res[:, 1]
+            a, b = 1.0 - z[0][0] * g0, z[0][1] * g1  # J = [[a, -b], [-c, d]]
+            c, d = z[1][0] * g0, 1.0 - z[1][1] * g1
+            det = a * d - b * c
+            return np.stack([(d * r0 + b * r1) / det, (a * r1 + c * r0) / det], axis=1)
+        return np.linalg.solve(self.eye - self.Z * g[:, None, :], res[..., None])[..., 0]
+
+    def solve_linear(self, g: np.ndarray, r: np.ndarray) -> np.ndarray:
+        """(I - diag(g) Z)^-1 r for r (B, P, K): the junction currents' response to a
+        change of the junction voltages with no current."""
+        if self.P == 1:
+            return r / (1.0 - self.z[0][0] * g[:, 0])[:, None, None]
+        if self.P == 2:
+            z, g0, g1 = self.z, g[:, 0, None], g[:, 1, None]
+            a, b = 1.0 - g0 * z[0][0][:, None], g0 * z[0][1][:, None]
+            c, d = g1 * z[1][0][:, None], 1.0 - g1 * z[1][1][:, None]
+            r0, r1 = r[:, 0], r[:, 1]
+            det = a * d - b * c
+            return np.stack([(d * r0 + b * r1) / det, (a * r1 + c * r0) / det], axis=1)
+        return np.linalg.solve(self.eye - g[:, :, None] * self.Z, r)
+
+    def solve(self, b: np.ndarray, y0: np.ndarray):
+        """Junction voltages y, currents f(y) and slopes f'(y), (B, P) each, from the
+        voltages b with no junction current [V] and a starting guess y0 [V]."""
+        law, params = self.law, self.params
+        # every junction of the batch reverse-biased even with no current: no iteration
+        # needed (a valve passes nothing; a silicon junction its saturation current)
+        if law == "valve":
+            if np.all(b <= 0.0):
+                return b, np.zeros_like(b), np.zeros_like(b)
+        elif np.all(b < self.off_below):
+            i, g = junction(law, b, params)
+            return b + self.times_Z(i), i, g
+        y = y0
+        for _ in range(self.max_iter):
+            i, g = junction(law, y, params)
+            res = y - b - self.times_Z(i)
+            y_new = limit_step(law, y - self._newton(g, res), y, params)
+            dy = np.abs(y_new - y)
+            # converged when the last step moves neither voltage nor current noticeably
+            done = np.max(dy) <= self.tol and np.max(dy * g) <= CURRENT_TOLERANCE_A
+            y = y_new
+            if done:
+                break
+        i, g = junction(law, y, params)
+        return y, i, g
 
 
 def solve_junctions(b: np.ndarray, Z: np.ndarray, y0: np.ndarray, law: str,
                     params: dict[str, np.ndarray], vscale: np.ndarray,
                     max_iter: int = 60) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Solve y = b + Z f(y) for the junction voltages y of one step.
+
+    Newton's method on the few junction voltages of each design, the silicon
+    steps limited as SPICE limits them (:func:`~supplydesign.circuit.devices.limit_step`),
+    until the last step moves neither a voltage by more than 1e-7 of the largest
+    winding emf nor a current by more than ``CURRENT_TOLERANCE_A``.
 
     Parameters
     ----------
@@ -127,29 +194,7 @@ def solve_junctions(b: np.ndarray, Z: np.ndarray, y0: np.ndarray, law: str,
     -------
     y, f(y), f'(y) with shapes (B, P).
     """
-    # every junction of the batch reverse-biased even with no current: no iteration
-    # needed (a valve passes nothing; a silicon junction its saturation current)
-    if law == "valve" and np.all(b <= 0.0):
-        return b, np.zeros_like(b), np.zeros_like(b)
-    if law == "silicon" and np.all(b < -20.0 * params["nvt"]):
-        i, g = junction(law, b, params)
-        return b + (Z @ i[..., None])[..., 0], i, g
-    y = y0
-    tol = 1e-7 * np.max(vscale)  # [V]
-    eye = np.eye(Z.shape[-1])
-    for _ in range(max_iter):
-        i, g = junction(law, y, params)
-        res = y - b - (Z @ i[..., None])[..., 0]
-        J = eye - Z * g[:, None, :]
-        y_new = limit_step(law, y - _solve_small(J, res), y, params)
-        dy = np.abs(y_new - y)
-        # converged when the last step moves neither voltage nor current noticeably
-        done = np.max(dy) <= tol and np.max(dy * g) <= CURRENT_TOLERANCE_A
-        y = y_new
-        if done:
-            break
-    i, g = junction(law, y, params)
-    return y, i, g
+    return _Junctions(law, params, Z, vscale, max_iter).solve(b, y0)
 
 
 def _newton_step(M: np.ndarray, r: np.ndarray, slow: np.ndarray) -> np.ndarray:
@@ -408,9 +453,12 @@ class _Stepper:
         self.params_all = batch.params
         self.steps = steps
         self.s = self.oscillator(steps, start)  # the period runs from phase start/steps
-        # oscillator forcing of every step: (steps, B, nx)
+        # oscillator forcing of every step: (steps, B, nx), and its junction voltages
         self.forcing_all = np.einsum("bij,kj->kbi", batch.Phis, self.s[:-1])
+        self.forcing_b = np.einsum("bpi,kbi->kbp", batch.Cy, self.forcing_all)
         self.Z_all = batch.Cy @ batch.G1  # (B, P, P)
+        self.step_x = np.concatenate([batch.Phi, batch.G0, batch.G1], axis=2)
+        self.step_b = batch.Cy @ self.step_x[:, :, :-batch.Cy.shape[1]]
         self.off_all = _OffMap(batch, steps)
 
     @staticmethod
@@ -435,10 +483,11 @@ class _Stepper:
         full = sel.size == bt.size
         pick = (lambda a: a) if full else (lambda a: a[sel])
         Phi, G0, G1, Cy = pick(bt.Phi), pick(bt.G0), pick(bt.G1), pick(bt.Cy)
-        Z = pick(self.Z_all)
+        step_x, step_b = pick(self.step_x), pick(self.step_b)
         params = {p: pick(v) for p, v in self.params_all.items()}
-        vscale = pick(bt.vscale)
+        junctions = _Junctions(self.law, params, pick(self.Z_all), pick(bt.vscale))
         forcing = self.forcing_all if full else self.forcing_all[:, sel]
+        forcing_b = self.forcing_b if full else self.forcing_b[:, sel]
         off = self.off_all if full else self.off_all.subset(sel)
         law, steps, s = self.law, self.steps, self.s
         B, nx = x0.shape
@@ -447,6 +496,9 @@ class _Stepper:
             xs = np.empty((steps + 1, B, nx))
             us = np.empty((steps + 1, B, P))
             ys = np.empty((steps + 1, B, P))
+        # [x[k]; u[k]; u[k+1]]: x[k+1] = [Phi G0 G1] of it, plus the mains forcing
+        xuu = np.empty((B, nx + 2 * P, 1))
+        xu, u_now, u_next = xuu[:, :nx + P], xuu[:, nx:nx + P, 0], xuu[:, nx + P:, 0]
         x = x0
         y = np.einsum("bpi,bi->bp", Cy, x)
         u, g = junction(law, y, params)
@@ -455,11 +507,8 @@ class _Stepper:
         S = None
         if sens:
             S = np.broadcast_to(np.eye(nx), (B, nx, nx)).copy()
-            W = g[:, :, None] * Cy
-        eyeP = np.eye(P)
-        PhiG0 = np.concatenate([Phi, G0], axis=2)  # x[k+1] before u[k+1]: one product
         k = 0
-        y_prev = y
+        y_prev = y_prev2 = y
         while k < steps:
             if np.all(y <= off.y_on):
                 # every junction is off: jump over the steps until one turns on
@@ -479,27 +528,28 @@ class _Stepper:
                     k += n
                     x = z[:, :nx]
                     y = np.einsum("bpi,bi->bp", Cy, x)
-                    y_prev = y
+                    y_prev = y_prev2 = y
                     u, g = junction(law, y, params)
-                    if sens:
-                        W = g[:, :, None] * Cy
                     continue
-            xu = np.concatenate([x, u], axis=1)[..., None]
-            xp = (PhiG0 @ xu)[..., 0] + forcing[k]
-            b = (Cy @ xp[..., None])[..., 0]
-            # the junction solve starts from the junction voltages extrapolated linearly
-            guess = 2.0 * y - y_prev
-            y_prev = y
-            y, u, g = solve_junctions(b, Z, guess, law, params, vscale)
-            x = xp + (G1 @ u[..., None])[..., 0]
+            xuu[:, :nx, 0] = x
+            u_now[...] = u
+            # junction voltages with no junction current at the step's end, and the solve
+            # for the currents from a quadratic extrapolation of the last three voltages
+            b = (step_b @ xu)[..., 0] + forcing_b[k]
+            guess = 3.0 * (y - y_prev) + y_prev2
+            y_prev2, y_prev = y_prev, y
+            g_before = g
+            y, u, g = junctions.solve(b, guess)
+            u_next[...] = u
+            x = (step_x @ xuu)[..., 0] + forcing[k]
             k += 1
             if record:
                 xs[k], us[k], ys[k] = x, u, y
             if sens:
-                R = Phi @ S + G0 @ (W @ S)
-                W = g[:, :, None] * Cy
-                K = eyeP - W @ G1
-                S = R + G1 @ _solve_small(K, W @ R)
+                # chain rule through the step: d x[k+1] = Phi dx + G0 du[k] + G1 du[k+1],
+                # du = g Cy dx, the last one implicit through the junction solve
+                R = Phi @ S + G0 @ (g_before[:, :, None] * (Cy @ S))
+                S = R + G1 @ junctions.solve_linear(g, g[:, :, None] * (Cy @ R))
         if not record:
             return x[None], None, None, S
         return xs, us, ys, S

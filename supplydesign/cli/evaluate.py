@@ -29,7 +29,6 @@ def cmd_evaluate(args) -> int:
     import json
 
     from ..errors import UserError
-    from ..evaluation.analysis import IDLE, evaluate
     from ..io.designfile import load_design
     from ..report.export import evaluation_json
     from ..writefiles import write_text_atomic
@@ -44,15 +43,15 @@ def cmd_evaluate(args) -> int:
         designs.append(load_design(path, catalog=catalog))
     if args.steps < 64:
         raise UserError("expected at least 64 steps per period", key="--steps")
-    from ..evaluation.cases import HIGH_MAINS_FULL_LOAD, solve_case
+    from ..evaluation.cases import HIGH_MAINS_FULL_LOAD, IDLE, NOMINAL, solve_cases
     from ..evaluation.heatlife import Nominal, fuses_of, heat_life, suggest_fuses
 
     wc = None
     if args.nominal_only:
-        full = evaluate(designs, steps=args.steps)
-        idle = evaluate(designs, IDLE, steps=args.steps)
-        hl = heat_life(designs, Nominal.of(full))
-        fs = suggest_fuses(designs, solve_case(designs, HIGH_MAINS_FULL_LOAD, args.steps).arrays)
+        cases = solve_cases(designs, (NOMINAL, IDLE, HIGH_MAINS_FULL_LOAD), args.steps)
+        full, idle = cases[NOMINAL.name].figures(), cases[IDLE.name].figures()
+        hl = heat_life(designs, cases[NOMINAL.name].arrays)
+        fs = suggest_fuses(designs, cases[HIGH_MAINS_FULL_LOAD.name].arrays)
     else:
         from ..evaluation.worstcase import analyse
 
@@ -80,8 +79,11 @@ def cmd_evaluate(args) -> int:
         objs = [evaluation_json(f, i, None if wc is None else worst_case_json(wc, b),
                                 heat=heat_life_json(d, hl, fs, b))
                 for b, (d, f, i) in enumerate(zip(designs, full, idle, strict=True))]
-        data = objs[0] if len(objs) == 1 else objs
-        write_text_atomic(args.json, json.dumps(data, indent=2) + "\n", force=args.force)
+        if len(objs) == 1:
+            text = json.dumps(objs[0], indent=2)
+        else:  # a list, one design per line (indenting many designs costs more than solving)
+            text = "[\n" + ",\n".join(json.dumps(o) for o in objs) + "\n]"
+        write_text_atomic(args.json, text + "\n", force=args.force)
     if args.spice:
         from ..circuit.spice import write_spice
 

@@ -32,9 +32,7 @@ class Solved:
     def __post_init__(self):
         st = self.steady
         ss = st.ss
-        self._xi = (np.einsum("bij,kbj->kbi", ss.Rx, st.x)
-                    + np.einsum("bij,kj->kbi", ss.Rs, st.s)
-                    + np.einsum("bij,kbj->kbi", ss.Ru, st.u))  # (K+1, B, N+M)
+        self._xi = _over_period(ss.Rx, st.x, ss.Rs, st.s, ss.Ru, st.u)  # (K+1, B, N+M)
         self._dx = None
 
     @property
@@ -55,9 +53,7 @@ class Solved:
         st = self.steady
         ss = st.ss
         if self._dx is None:
-            self._dx = (np.einsum("bij,kbj->kbi", ss.A, st.x)
-                        + np.einsum("bij,kj->kbi", ss.Bs, st.s)
-                        + np.einsum("bij,kbj->kbi", ss.Bu, st.u))
+            self._dx = _over_period(ss.A, st.x, ss.Bs, st.s, ss.Bu, st.u)
         row = ss.Rx[0, ss.node_index[node]]
         col = np.flatnonzero(row)
         if len(col) != 1 or np.any(ss.Ru[:, ss.node_index[node]] != 0):
@@ -85,6 +81,16 @@ class Solved:
         if e.kind == "J":
             return np.broadcast_to(c.value(name, "i")[None, :], self._xi.shape[:2])
         raise ValueError(e.kind)
+
+
+def _over_period(X: np.ndarray, x: np.ndarray, S: np.ndarray, s: np.ndarray, U: np.ndarray,
+                 u: np.ndarray) -> np.ndarray:
+    """X x + S s + U u at every sample of a period: matrices (B, n, .), samples x (K, B, .),
+    s (K, 3), u (K, B, .); returns (K, B, n)."""
+    out = x.transpose(1, 0, 2) @ X.transpose(0, 2, 1)  # (B, K, n)
+    out += u.transpose(1, 0, 2) @ U.transpose(0, 2, 1)
+    out += s[None] @ S.transpose(0, 2, 1)
+    return out.transpose(1, 0, 2)
 
 
 def _period(w: np.ndarray) -> np.ndarray:
@@ -318,12 +324,19 @@ def settling_hint(design: Design, dc_v: np.ndarray, link_dc_a: np.ndarray) -> st
 def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
                waveforms: bool = False) -> list[Figures]:
     """Figures of every design of a solved batch, as dataclasses."""
-    topo = solved.circuit.topology
-    fa = figure_arrays(solved)
+    return figures_from_arrays(figure_arrays(solved), solved.circuit.designs,
+                               solved.circuit.topology.rail_names, case.name,
+                               solved if waveforms else None)
+
+
+def figures_from_arrays(fa: FigureArrays, designs: Sequence[Design], rail_names: Sequence[str],
+                        case_name: str, solved: Solved | None = None) -> list[Figures]:
+    """:class:`Figures` of each design (row of ``fa``) with the rails named; the
+    waveforms of the period when the solved batch is given."""
     out = []
-    for b in range(solved.circuit.size):
+    for b in range(len(designs)):
         rails = []
-        for i, name in enumerate(topo.rail_names):
+        for i, name in enumerate(rail_names):
             has_cap = not np.isnan(fa.cap_ripple_rms_a[b, i])
             rails.append(RailFigures(
                 name=name, dc_v=float(fa.dc_v[b, i]), ripple_rms_v=float(fa.ripple_rms_v[b, i]),
@@ -334,7 +347,8 @@ def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
                 cap_ripple_rms_a=float(fa.cap_ripple_rms_a[b, i]) if has_cap else None,
                 cap_power_w=float(fa.cap_power_w[b, i]) if has_cap else None))
         wf = None
-        if waveforms:
+        if solved is not None:
+            topo = solved.circuit.topology
             wf = Waveforms(
                 t_s=solved.t_s[:, b],
                 rail_v={n: solved.node_v(node)[:, b]
@@ -343,13 +357,13 @@ def figures_of(solved: Solved, case: OperatingCase = NOMINAL,
                 winding_a=[solved.current(w.name)[:, b] for w in topo.of_kind("W")],
             )
         out.append(Figures(
-            case=case.name, rails=rails,
+            case=case_name, rails=rails,
             rectifier=RectifierFigures(float(fa.rect_peak_a[b]), float(fa.rect_rms_a[b]),
                                        float(fa.rect_avg_a[b]), float(fa.rect_power_w[b])),
             transformer=TransformerFigures(float(fa.winding_rms_a[b]),
                                            float(fa.winding_power_w[b])),
             converged=bool(fa.converged[b]), iterations=int(fa.iterations[b]),
-            residual=float(fa.residual[b]), note=convergence_note(fa, b, solved.circuit.designs[b]),
+            residual=float(fa.residual[b]), note=convergence_note(fa, b, designs[b]),
             waveforms=wf))
     return out
 

@@ -26,7 +26,7 @@ from ..circuit.netlist import Circuit, OperatingCase, build, solving_groups
 from ..circuit.statespace import build_state_space
 from ..circuit.steady import STEPS_PER_PERIOD, initial_guess, periodic_steady_states
 from ..design import Design
-from .analysis import FigureArrays, Solved, figure_arrays, figures_of
+from .analysis import FigureArrays, Solved, figure_arrays, figures_from_arrays
 from .figures import Figures
 
 
@@ -161,9 +161,16 @@ class CaseResult:
         """The figures of every design as :class:`~supplydesign.evaluation.figures.Figures`."""
         out: list = [None] * len(self.arrays.converged)
         for b in self.batches:
-            every = figures_of(b.solved, OperatingCase(self.case.name))
-            for i, row in zip(b.idx, b.rows, strict=True):
-                out[i] = every[row]
+            idx = np.asarray(b.idx)
+            R = len(b.solved.circuit.topology.rail_names)
+            arrays = FigureArrays(**{k: getattr(self.arrays, k)[idx][:, :R] if
+                                     getattr(self.arrays, k).ndim == 2 else
+                                     getattr(self.arrays, k)[idx]
+                                     for k in FigureArrays.__dataclass_fields__})
+            every = figures_from_arrays(arrays, [b.solved.circuit.designs[r] for r in b.rows],
+                                        b.solved.circuit.topology.rail_names, self.case.name)
+            for i, fig in zip(b.idx, every, strict=True):
+                out[i] = fig
         return out
 
 
