@@ -309,20 +309,23 @@ class _OffMap:
     the batch would be on.
     """
 
-    def __init__(self, batch: _Batch, steps: int, lookahead: int = LOOKAHEAD_STEPS):
-        B, nx, P = batch.G0.shape
+    def __init__(self, law: str, params: dict[str, np.ndarray], Phi: np.ndarray,
+                 Phis: np.ndarray, G0: np.ndarray, G1: np.ndarray, Cy: np.ndarray,
+                 turn: float, steps: int, lookahead: int = LOOKAHEAD_STEPS):
+        """The map of one step for the designs of arrays (B, ...), the mains turning by
+        ``turn`` [rad] a step; jumps of up to ``steps`` steps."""
+        B, nx, P = G0.shape
         na = nx + 3
-        if batch.law == "valve":
+        if law == "valve":
             self.u_off = np.zeros((B, P))
             self.y_on = np.zeros((B, P))
         else:
-            self.u_off = -batch.params["isat"]
-            self.y_on = -OFF_BELOW_NVT * batch.params["nvt"]
-        turn = 2.0 * np.pi / steps
+            self.u_off = -params["isat"]
+            self.y_on = -OFF_BELOW_NVT * params["nvt"]
         phi = np.zeros((B, na, na))
-        phi[:, :nx, :nx] = batch.Phi
-        phi[:, :nx, nx:] = batch.Phis
-        phi[:, :nx, nx + 2] += ((batch.G0 + batch.G1) @ self.u_off[..., None])[..., 0]
+        phi[:, :nx, :nx] = Phi
+        phi[:, :nx, nx:] = Phis
+        phi[:, :nx, nx + 2] += ((G0 + G1) @ self.u_off[..., None])[..., 0]
         phi[:, nx:, nx:] = [[np.cos(turn), np.sin(turn), 0.0],
                             [-np.sin(turn), np.cos(turn), 0.0], [0.0, 0.0, 1.0]]
         self.powers = [phi]
@@ -332,12 +335,18 @@ class _OffMap:
         L = min(lookahead, steps)
         ahead = np.empty((B, L, P, na))
         row = np.zeros((B, P, na))
-        row[:, :, :nx] = batch.Cy
+        row[:, :, :nx] = Cy
         for j in range(L):
             row = row @ phi
             ahead[:, j] = row
         self.ahead = ahead.reshape(B, L * P, na)
         self.lookahead = L
+
+    @classmethod
+    def of_batch(cls, batch: _Batch, steps: int) -> _OffMap:
+        """The map of a batch stepping ``steps`` steps per mains period."""
+        return cls(batch.law, batch.params, batch.Phi, batch.Phis, batch.G0, batch.G1,
+                   batch.Cy, 2.0 * np.pi / steps, steps)
 
     def subset(self, sel: np.ndarray) -> _OffMap:
         out = object.__new__(_OffMap)
@@ -459,7 +468,7 @@ class _Stepper:
         self.Z_all = batch.Cy @ batch.G1  # (B, P, P)
         self.step_x = np.concatenate([batch.Phi, batch.G0, batch.G1], axis=2)
         self.step_b = batch.Cy @ self.step_x[:, :, :-batch.Cy.shape[1]]
-        self.off_all = _OffMap(batch, steps)
+        self.off_all = _OffMap.of_batch(batch, steps)
 
     @staticmethod
     def oscillator(steps: int, start: int = 0) -> np.ndarray:

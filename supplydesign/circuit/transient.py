@@ -68,9 +68,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .devices import junction
 from .netlist import Circuit
 from .statespace import build_state_space, discretize
-from .steady import solve_junctions
+from .steady import _Junctions, _OffMap
 
 #: binary sub-steps of the very first step, in fractions of it
 SUBSTEPS = np.array([1, 1, 2, 4, 8, 16, 32], dtype=float) / 64.0
@@ -161,10 +162,11 @@ class _Plant:
         return out
 
 
-def _oscillator(frac: float) -> np.ndarray:
-    """(sin, cos, 1) of the mains phase after ``frac`` periods from the crest."""
-    ang = 2.0 * np.pi * frac + 0.5 * np.pi
-    return np.array([np.sin(ang), np.cos(ang), 1.0])
+def _oscillator(frac):
+    """(sin, cos, 1) of the mains phase after ``frac`` periods from the crest: (3,) for
+    one ``frac``, (n, 3) for an array of them."""
+    ang = 2.0 * np.pi * np.asarray(frac, dtype=float) + 0.5 * np.pi
+    return np.stack([np.sin(ang), np.cos(ang), np.ones_like(ang)], axis=-1)
 
 
 def _schedule(max_periods: int):
@@ -253,60 +255,115 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
     i_out_prev = np.zeros(B)
     mats = None
     key = None
+    def account(t, v, vc, u, h):
+        """Take n steps of the active designs into the figures: end times t (n, A), rail
+        voltages v and capacitor voltages vc (n, A, R), junction currents u (n, A, P)."""
+        nonlocal i_max_prev, i_out_prev
+        cols = np.arange(active.size)
+        j = np.argmax(vc, axis=0)  # the first sample of the block's highest
+        high = np.take_along_axis(vc, j[None], axis=0)[0]
+        higher = high > peak_v[active]
+        peak_v[active] = np.where(higher, high, peak_v[active])
+        peak_t[active] = np.where(higher, t[j, cols[:, None]], peak_t[active])
+        i_max = np.max(u, axis=2)  # (n, A)
+        t_prev = np.concatenate([t[:1] - h * T, t[:-1]])
+        if np.any(t[-1] >= SURGE_FROM_S):
+            # the sample at SURGE_FROM_S itself, interpolated, then every later one
+            i_before = np.concatenate([i_max_prev[None], i_max[:-1]])
+            w = np.clip((SURGE_FROM_S - t_prev) / (t - t_prev), 0.0, 1.0)
+            i_at = np.where(t_prev < SURGE_FROM_S, i_before + w * (i_max - i_before), i_max)
+            cand = np.where(t >= SURGE_FROM_S, np.maximum(i_at, i_max), 0.0)
+            j = np.argmax(cand, axis=0)
+            best = cand[j, cols]
+            better = best > surge[active]
+            surge[active] = np.where(better, best, surge[active])
+            surge_t[active] = np.where(better, np.maximum(t[j, cols], SURGE_FROM_S),
+                                       surge_t[active])
+        i_max_prev = i_max[-1]
+        i_out = np.sum(u, axis=2) / plant.paths  # (n, A)
+        i_out_before = np.concatenate([i_out_prev[None], i_out[:-1]])
+        i2t[active] += np.sum(0.5 * (i_out_before ** 2 + i_out ** 2) * (t - t_prev), axis=0)
+        i_out_prev = i_out[-1]
+        before = np.concatenate([prev_v[active][None], v[:-1]])
+        if target is not None:
+            tg = target[active]
+            cross = np.isnan(t90[active]) & np.any(v >= tg, axis=0)
+            if np.any(cross):
+                j = np.argmax(v >= tg, axis=0)  # the first step at or above 90 %
+                vj = np.take_along_axis(v, j[None], axis=0)[0]
+                pv = np.take_along_axis(before, j[None], axis=0)[0]
+                w = np.clip((tg - pv) / np.where(vj > pv, vj - pv, 1.0), 0.0, 1.0)
+                tp = t_prev[j, cols[:, None]]
+                t_hit = tp + w * (t[j, cols[:, None]] - tp)
+                t90[active] = np.where(cross, t_hit, t90[active])
+        prev_v[active] = v[-1]
+        if record:
+            for k in range(t.shape[0]):
+                _record(rec, active, B, t[k], v[k], vc[k], u[k])
+        return 0.5 * h * np.sum(before + v, axis=0)
+
     for chunk in _schedule(max_periods):
         T = plant.period[active]
         area = np.zeros((active.size, R))
         span = 0.0
-        for h in chunk:
+        pos = 0
+        while pos < len(chunk):
+            h = chunk[pos]
             phase = np.sum(uniq[active] <= frac + h + 1e-12, axis=1)
             new_key = (h, tuple(phase))
             if new_key != key:
                 mats, key = plant.matrices(h, phase, active), new_key
                 Cy, vscale = plant.Cy[active], plant.vscale[active]
                 params = {k: v[active] for k, v in plant.params.items()}
+                junctions = _Junctions(plant.law, params, mats["Z"], vscale)
+                off = None
+            # every junction off and the rest of the chunk in steps of h: jump over the
+            # steps until a junction turns on (or a stage warms up, or the chunk ends)
+            most = len(chunk) - pos if chunk[-1] == h else 0
+            ahead = uniq[active]
+            later = ahead[(ahead > frac + h + 1e-12) & np.isfinite(ahead)]
+            if later.size:  # the steps before the next warm-up instant
+                most = min(most, int(np.floor((later.min() - frac - 1e-12) / h)))
+            if most > 1 and off is None:
+                nxp = mats["PhiG0"].shape[1]
+                off = _OffMap(plant.law, params, mats["PhiG0"][:, :, :nxp], mats["Phis"],
+                              mats["PhiG0"][:, :, nxp:], mats["G1"], Cy, 2.0 * np.pi * h,
+                              len(chunk))
+            if most > 1 and np.all(y <= off.y_on):
+                z = np.concatenate([x, np.broadcast_to(_oscillator(frac), (x.shape[0], 3))],
+                                   axis=1)
+                n = off.off_steps(z, most)
+                if n > 0:
+                    zs = off.states(z, n)
+                    xs = zs[:, :, :nx]
+                    ys = np.einsum("api,nai->nap", Cy, xs)
+                    us = junction(plant.law, ys, params)[0]
+                    fr = frac + h * np.arange(1, n + 1)
+                    t = fr[:, None] * T[None, :]
+                    v = (np.einsum("ari,nai->nar", mats["Rx"], xs)
+                         + np.einsum("ari,ni->nar", mats["Rs"], _oscillator(fr))
+                         + np.einsum("arp,nap->nar", mats["Ru"], us))
+                    vc = np.einsum("ari,nai->nar", mats["Cx"], xs)
+                    area += account(t, v, vc, us, h)
+                    x, y, u = xs[-1], ys[-1], us[-1]
+                    frac += n * h
+                    span += n * h
+                    pos += n
+                    continue
             s0 = _oscillator(frac)  # the step's forcing starts from the oscillator at its start
             frac += h
             s = _oscillator(frac)
             xu = np.concatenate([x, u], axis=1)[..., None]
             xp = (mats["PhiG0"] @ xu)[..., 0] + mats["Phis"] @ s0
             b = np.einsum("bpi,bi->bp", Cy, xp)
-            y, u, _ = solve_junctions(b, mats["Z"], y, plant.law, params, vscale)
+            y, u, _ = junctions.solve(b, y)
             x = xp + (mats["G1"] @ u[..., None])[..., 0]
             v = (np.einsum("bri,bi->br", mats["Rx"], x) + mats["Rs"] @ s
                  + np.einsum("brp,bp->br", mats["Ru"], u))
             vc = np.einsum("bri,bi->br", mats["Cx"], x)
-            t = frac * T
-            higher = vc > peak_v[active]
-            peak_v[active] = np.where(higher, vc, peak_v[active])
-            peak_t[active] = np.where(higher, t[:, None], peak_t[active])
-            i_max = np.max(u, axis=1)
-            t_prev = (frac - h) * T
-            if np.any(t >= SURGE_FROM_S):
-                # the sample at SURGE_FROM_S itself, interpolated, then every later one
-                w = np.clip((SURGE_FROM_S - t_prev) / (t - t_prev), 0.0, 1.0)
-                i_at = np.where(t_prev < SURGE_FROM_S, i_max_prev + w * (i_max - i_max_prev),
-                                i_max)
-                cand = np.where(t >= SURGE_FROM_S, np.maximum(i_at, i_max), 0.0)
-                better = cand > surge[active]
-                surge[active] = np.where(better, cand, surge[active])
-                surge_t[active] = np.where(better, np.maximum(t, SURGE_FROM_S), surge_t[active])
-            i_max_prev = i_max
-            i_out = np.sum(u, axis=1) / plant.paths
-            i2t[active] += 0.5 * (i_out_prev ** 2 + i_out ** 2) * (t - t_prev)
-            i_out_prev = i_out
-            if target is not None:
-                tg = target[active]
-                cross = np.isnan(t90[active]) & (v >= tg)
-                if np.any(cross):
-                    pv = prev_v[active]
-                    w = np.clip((tg - pv) / np.where(v > pv, v - pv, 1.0), 0.0, 1.0)
-                    t_hit = t_prev[:, None] + w * (t - t_prev)[:, None]
-                    t90[active] = np.where(cross, t_hit, t90[active])
-            area += 0.5 * (prev_v[active] + v) * h
+            area += account((frac * T)[None], v[None], vc[None], u[None], h)
             span += h
-            prev_v[active] = v
-            if record:
-                _record(rec, active, B, t, v, vc, u)
+            pos += 1
         last_v[active] = area / span
         done = frac * T >= t_max[active] - 1e-12
         if target is not None:

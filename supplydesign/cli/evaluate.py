@@ -44,7 +44,7 @@ def cmd_evaluate(args) -> int:
     if args.steps < 64:
         raise UserError("expected at least 64 steps per period", key="--steps")
     from ..evaluation.cases import HIGH_MAINS_FULL_LOAD, IDLE, NOMINAL, solve_cases
-    from ..evaluation.heatlife import Nominal, fuses_of, heat_life, suggest_fuses
+    from ..evaluation.heatlife import fuses_of, heat_life, suggest_fuses
 
     wc = None
     if args.nominal_only:
