@@ -71,7 +71,7 @@ import numpy as np
 from .devices import junction
 from .netlist import Circuit
 from .statespace import build_state_space, discretize
-from .steady import _Junctions, _OffMap
+from .steady import OFF_BELOW_NVT, _Junctions, _OffMap
 
 #: binary sub-steps of the very first step, in fractions of it
 SUBSTEPS = np.array([1, 1, 2, 4, 8, 16, 32], dtype=float) / 64.0
@@ -112,35 +112,63 @@ class SwitchOn:
 
 
 class _Plant:
-    """The phases' state-space models and their discretisations, sliced on demand."""
+    """The phases' state-space models and their discretisations, sliced on demand.
 
-    def __init__(self, circuits: Sequence[Circuit]):
-        self.ss = [build_state_space(c) for c in circuits]
-        s0 = self.ss[0]
-        topo = circuits[0].topology
-        self.law = topo.law
-        self.period = 1.0 / circuits[0].frequency_hz
-        self.params = s0.port_params
-        emfs = [circuits[0].value(e.name, "emf") for e in topo.of_kind("W")]
-        self.vscale = np.max(np.stack(emfs), axis=0)
+    Several topologies of one junction law and port count make one plant: their
+    states, rails and phases padded to the largest (a padded state or rail stays at
+    zero; a topology with fewer phases keeps its last), so that they step as one
+    batch."""
+
+    def __init__(self, groups: Sequence[Sequence[Circuit]]):
+        n_phases = max(len(g) for g in groups)
+        self.ss = [[build_state_space(c) for c in g] for g in groups]
+        self.ss = [m + [m[-1]] * (n_phases - len(m)) for m in self.ss]
+        self.sizes = [g[0].size for g in groups]
+        self.nx = max(m[0].nx for m in self.ss)
+        self.R = max(len(g[0].topology.rail_nodes) for g in groups)
+        self.law = groups[0][0].topology.law
         # junctions in series on each conducting path: the output current is their sum / this
-        self.paths = 2.0 if topo.arrangement == "bridge" else 1.0
-        self.Cy = s0.Cy
-        rows = [s0.node_index[n] for n in topo.rail_nodes]
-        self.rail_rows = rows
-        caps = []
-        for i, node in enumerate(topo.rail_nodes):
-            cap = topo.by_role("cap", i)
-            caps.append(s0.node_index[cap.a] if cap is not None else s0.node_index[node])
-        self.cap_rows = caps
+        self.paths = 2.0 if groups[0][0].topology.arrangement == "bridge" else 1.0
+        self.period = np.concatenate([1.0 / g[0].frequency_hz for g in groups])
+        firsts = [m[0] for m in self.ss]
+        self.params = {p: np.concatenate([m.port_params[p] for m in firsts])
+                       for p in firsts[0].port_params}
+        self.vscale = np.concatenate([
+            np.max(np.stack([g[0].value(e.name, "emf") for e in g[0].topology.of_kind("W")]),
+                   axis=0) for g in groups])
+        self.Cy = np.concatenate([_fit(m.Cy, None, self.nx) for m in firsts])
+        self.rail_rows, self.cap_rows = [], []
+        for g, m in zip(groups, firsts, strict=True):
+            topo = g[0].topology
+            self.rail_rows.append([m.node_index[n] for n in topo.rail_nodes])
+            caps = [topo.by_role("cap", i) for i in range(len(topo.rail_nodes))]
+            self.cap_rows.append([m.node_index[c.a] if c is not None else m.node_index[n]
+                                  for c, n in zip(caps, topo.rail_nodes, strict=True)])
         self._disc: dict = {}
 
     def _discrete(self, j: int, frac: float):
         key = (j, frac)
         if key not in self._disc:
-            d = discretize(self.ss[j], frac * self.period)
-            self._disc[key] = {"PhiG0": np.concatenate([d.Phi, d.G0], axis=2), "Phis": d.Phis,
-                               "G1": d.G1, "Z": self.Cy @ d.G1}
+            nx, R = self.nx, self.R
+            parts: dict[str, list] = {k: [] for k in ("Phi", "G0", "Phis", "G1", "Rx", "Rs",
+                                                      "Ru", "Cx")}
+            row = 0
+            for m, n, rails, caps in zip(self.ss, self.sizes, self.rail_rows, self.cap_rows,
+                                         strict=True):
+                ss = m[j]
+                d = discretize(ss, frac * self.period[row:row + n])
+                row += n
+                parts["Phi"].append(_fit(d.Phi, nx, nx))
+                for k in ("G0", "Phis", "G1"):
+                    parts[k].append(_fit(getattr(d, k), nx, None))
+                parts["Rx"].append(_fit(ss.Rx[:, rails], R, nx))
+                parts["Rs"].append(_fit(ss.Rs[:, rails], R, None))
+                parts["Ru"].append(_fit(ss.Ru[:, rails], R, None))
+                parts["Cx"].append(_fit(ss.Rx[:, caps], R, nx))
+            a = {k: np.concatenate(v) for k, v in parts.items()}
+            self._disc[key] = {"PhiG0": np.concatenate([a["Phi"], a["G0"]], axis=2),
+                               "Phis": a["Phis"], "G1": a["G1"], "Z": self.Cy @ a["G1"],
+                               "Rx": a["Rx"], "Rs": a["Rs"], "Ru": a["Ru"], "Cx": a["Cx"]}
         return self._disc[key]
 
     def matrices(self, frac: float, phase: np.ndarray, active: np.ndarray) -> dict:
@@ -148,10 +176,7 @@ class _Plant:
         js = np.unique(phase)
         out = {}
         for k, j in enumerate(js):
-            d = self._discrete(int(j), frac)
-            ss = self.ss[int(j)]
-            full = {**d, "Rx": ss.Rx[:, self.rail_rows], "Rs": ss.Rs[:, self.rail_rows],
-                    "Ru": ss.Ru[:, self.rail_rows], "Cx": ss.Rx[:, self.cap_rows]}
+            full = self._discrete(int(j), frac)
             if k == 0:
                 out = {n: a[active].copy() for n, a in full.items()}
                 if len(js) == 1:
@@ -162,9 +187,19 @@ class _Plant:
         return out
 
 
+def _fit(a: np.ndarray, rows: int | None, cols: int | None) -> np.ndarray:
+    """``a`` (B, n, m) padded with zeros to ``rows`` rows and ``cols`` columns (None:
+    as it is)."""
+    return np.pad(a, ((0, 0), (0, 0 if rows is None else rows - a.shape[1]),
+                      (0, 0 if cols is None else cols - a.shape[2])))
+
+
 def _oscillator(frac):
     """(sin, cos, 1) of the mains phase after ``frac`` periods from the crest: (3,) for
     one ``frac``, (n, 3) for an array of them."""
+    if np.isscalar(frac):
+        ang = 2.0 * math.pi * frac + 0.5 * math.pi
+        return np.array([math.sin(ang), math.cos(ang), 1.0])
     ang = 2.0 * np.pi * np.asarray(frac, dtype=float) + 0.5 * np.pi
     return np.stack([np.sin(ang), np.cos(ang), np.ones_like(ang)], axis=-1)
 
@@ -214,15 +249,54 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
     -------
     SwitchOn
     """
-    plant = _Plant(phases)
-    B = phases[0].size
-    R = len(plant.rail_rows)
-    nx = plant.ss[0].nx
+    return switch_on_batches([phases], warm_at_s, final_v=final_v, t_max_s=t_max_s,
+                             delay_s=delay_s, record=record)[0]
+
+
+def switch_on_batches(groups: Sequence[Sequence[Circuit]], warm_at_s: np.ndarray | None = None,
+                      *, final_v: np.ndarray | None = None,
+                      t_max_s: np.ndarray | float = 10.0, delay_s: np.ndarray | float = 0.0,
+                      record: bool = False) -> list[SwitchOn]:
+    """:func:`switch_on` of several topologies of one junction law and port count, run as
+    one batch; one :class:`SwitchOn` per group.
+
+    ``groups`` holds each topology's phases; the designs are those of every group in
+    order, and ``warm_at_s`` and ``final_v`` are over all of them, rails padded to the
+    largest rail count (with ``inf`` and 0: a padded rail stays at 0 V and is
+    dropped from the results).
+    """
+    plant = _Plant(groups)
+    out = _switch_on(plant, warm_at_s, final_v, t_max_s, delay_s, record)
+    parts, row = [], 0
+    for g, m in zip(groups, plant.ss, strict=True):
+        rows, R, nx = slice(row, row + g[0].size), len(g[0].topology.rail_nodes), m[0].nx
+        row = rows.stop
+        part = SwitchOn(*(getattr(out, f)[rows, :R] if getattr(out, f).ndim == 2 else
+                          getattr(out, f)[rows] for f in _RESULT_FIELDS),
+                        x_end=out.x_end[rows, :nx])
+        if out.record is not None:
+            part.record = {k: (v[:, rows, :R] if k in ("rail_v", "cap_v") else v[:, rows])
+                           for k, v in out.record.items()}
+        parts.append(part)
+    return parts
+
+
+#: the SwitchOn fields of one value per design or per design and rail
+_RESULT_FIELDS = ("peak_v", "peak_t_s", "surge_a", "surge_t_s", "i2t_a2s", "t90_s", "last_v",
+                  "settled", "end_s")
+
+
+def _switch_on(plant: _Plant, warm_at_s, final_v, t_max_s, delay_s, record) -> SwitchOn:
+    """The run of :func:`switch_on_batches` on its padded plant."""
+    B = plant.period.size
+    R = plant.R
+    nx = plant.nx
     P = plant.Cy.shape[1]
+    n_phases = len(plant.ss[0])
     warm = np.full((B, R), np.inf) if warm_at_s is None else np.asarray(warm_at_s, dtype=float)
     warm_frac = warm / plant.period[:, None]
     # distinct warm-up instants per design, sorted, padded with inf: phase = count passed
-    uniq = np.full((B, max(len(phases) - 1, 1)), np.inf)
+    uniq = np.full((B, max(n_phases - 1, 1)), np.inf)
     for b in range(B):  # per design once, not per step
         u = np.unique(warm_frac[b][np.isfinite(warm_frac[b])])
         uniq[b, :u.size] = u[: uniq.shape[1]]
@@ -302,6 +376,9 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
                 _record(rec, active, B, t[k], v[k], vc[k], u[k])
         return 0.5 * h * np.sum(before + v, axis=0)
 
+    warming = bool(np.isfinite(uniq).any())
+    phase = np.zeros(B, dtype=int)
+    y_prev = y_prev2 = y
     for chunk in _schedule(max_periods):
         T = plant.period[active]
         area = np.zeros((active.size, R))
@@ -309,30 +386,38 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
         pos = 0
         while pos < len(chunk):
             h = chunk[pos]
-            phase = np.sum(uniq[active] <= frac + h + 1e-12, axis=1)
-            new_key = (h, tuple(phase))
+            if warming:
+                phase = np.sum(uniq[active] <= frac + h + 1e-12, axis=1)
+            new_key = (h, tuple(phase[:active.size]))
             if new_key != key:
-                mats, key = plant.matrices(h, phase, active), new_key
+                mats, key = plant.matrices(h, phase[:active.size], active), new_key
                 Cy, vscale = plant.Cy[active], plant.vscale[active]
                 params = {k: v[active] for k, v in plant.params.items()}
                 junctions = _Junctions(plant.law, params, mats["Z"], vscale)
+                y_on = (np.zeros_like(y) if plant.law == "valve"
+                        else -OFF_BELOW_NVT * params["nvt"])
+                step_b = Cy @ mats["PhiG0"]  # junction voltages with no current, from x, u
+                force_b = Cy @ mats["Phis"]
+                out_x = np.concatenate([mats["Rx"], mats["Cx"]], axis=1)  # rails, capacitors
                 off = None
             # every junction off and the rest of the chunk in steps of h: jump over the
             # steps until a junction turns on (or a stage warms up, or the chunk ends)
-            most = len(chunk) - pos if chunk[-1] == h else 0
-            ahead = uniq[active]
-            later = ahead[(ahead > frac + h + 1e-12) & np.isfinite(ahead)]
-            if later.size:  # the steps before the next warm-up instant
-                most = min(most, int(np.floor((later.min() - frac - 1e-12) / h)))
-            if most > 1 and off is None:
-                nxp = mats["PhiG0"].shape[1]
-                off = _OffMap(plant.law, params, mats["PhiG0"][:, :, :nxp], mats["Phis"],
-                              mats["PhiG0"][:, :, nxp:], mats["G1"], Cy, 2.0 * np.pi * h,
-                              len(chunk))
-            if most > 1 and np.all(y <= off.y_on):
-                z = np.concatenate([x, np.broadcast_to(_oscillator(frac), (x.shape[0], 3))],
-                                   axis=1)
-                n = off.off_steps(z, most)
+            if chunk[-1] == h and pos + 1 < len(chunk) and np.all(y <= y_on):
+                most = len(chunk) - pos
+                ahead = uniq[active]
+                later = ahead[(ahead > frac + h + 1e-12) & np.isfinite(ahead)]
+                if later.size:  # the steps before the next warm-up instant
+                    most = min(most, int(np.floor((later.min() - frac - 1e-12) / h)))
+                n = 0
+                if most > 1:
+                    if off is None:
+                        nxp = mats["PhiG0"].shape[1]
+                        off = _OffMap(plant.law, params, mats["PhiG0"][:, :, :nxp],
+                                      mats["Phis"], mats["PhiG0"][:, :, nxp:], mats["G1"], Cy,
+                                      2.0 * np.pi * h, len(chunk))
+                    z = np.concatenate([x, np.broadcast_to(_oscillator(frac), (x.shape[0], 3))],
+                                       axis=1)
+                    n = off.off_steps(z, most)
                 if n > 0:
                     zs = off.states(z, n)
                     xs = zs[:, :, :nx]
@@ -340,12 +425,12 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
                     us = junction(plant.law, ys, params)[0]
                     fr = frac + h * np.arange(1, n + 1)
                     t = fr[:, None] * T[None, :]
-                    v = (np.einsum("ari,nai->nar", mats["Rx"], xs)
-                         + np.einsum("ari,ni->nar", mats["Rs"], _oscillator(fr))
+                    vv = np.einsum("ari,nai->nar", out_x, xs)
+                    v = (vv[:, :, :R] + np.einsum("ari,ni->nar", mats["Rs"], _oscillator(fr))
                          + np.einsum("arp,nap->nar", mats["Ru"], us))
-                    vc = np.einsum("ari,nai->nar", mats["Cx"], xs)
-                    area += account(t, v, vc, us, h)
+                    area += account(t, v, vv[:, :, R:], us, h)
                     x, y, u = xs[-1], ys[-1], us[-1]
+                    y_prev = y_prev2 = y
                     frac += n * h
                     span += n * h
                     pos += n
@@ -354,14 +439,16 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
             frac += h
             s = _oscillator(frac)
             xu = np.concatenate([x, u], axis=1)[..., None]
-            xp = (mats["PhiG0"] @ xu)[..., 0] + mats["Phis"] @ s0
-            b = np.einsum("bpi,bi->bp", Cy, xp)
-            y, u, _ = junctions.solve(b, y)
-            x = xp + (mats["G1"] @ u[..., None])[..., 0]
-            v = (np.einsum("bri,bi->br", mats["Rx"], x) + mats["Rs"] @ s
-                 + np.einsum("brp,bp->br", mats["Ru"], u))
-            vc = np.einsum("bri,bi->br", mats["Cx"], x)
-            area += account((frac * T)[None], v[None], vc[None], u[None], h)
+            b = (step_b @ xu)[..., 0] + force_b @ s0
+            # the junction solve starts from the junction voltages extrapolated
+            guess = 3.0 * (y - y_prev) + y_prev2
+            y_prev2, y_prev = y_prev, y
+            y, u, _ = junctions.solve(b, guess)
+            x = (mats["PhiG0"] @ xu)[..., 0] + mats["Phis"] @ s0 + (mats["G1"] @ u[..., None])[
+                ..., 0]
+            vv = (out_x @ x[..., None])[..., 0]
+            v = vv[:, :R] + mats["Rs"] @ s + (mats["Ru"] @ u[..., None])[..., 0]
+            area += account((frac * T)[None], v[None], vv[None, :, R:], u[None], h)
             span += h
             pos += 1
         last_v[active] = area / span
@@ -387,6 +474,7 @@ def switch_on(phases: Sequence[Circuit], warm_at_s: np.ndarray | None = None, *,
             x_end[fin] = x[done]
             keep = ~done
             active, x, u, y = active[keep], x[keep], u[keep], y[keep]
+            y_prev, y_prev2 = y_prev[keep], y_prev2[keep]
             i_max_prev, i_out_prev = i_max_prev[keep], i_out_prev[keep]
             key = None
         if active.size == 0:

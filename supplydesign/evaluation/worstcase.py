@@ -30,7 +30,7 @@ from ..circuit import formulas
 from ..circuit.netlist import group_by_topology
 from ..circuit.smallsignal import IMPEDANCE_HZ, discharge_times, output_impedance
 from ..circuit.steady import STEPS_PER_PERIOD
-from ..circuit.transient import phase_circuits, settle_time_estimate, switch_on
+from ..circuit.transient import phase_circuits, settle_time_estimate, switch_on_batches
 from ..design import Design
 from .cases import (
     HIGH_MAINS_FULL_LOAD,
@@ -113,26 +113,42 @@ def _switch_on_runs(designs, final_v, tail_peak_v, make_phases, delay_s, t_extra
     Returns the arrays and, per group, (indices, SwitchOn)."""
     out = SwitchOnArrays(*(_blank(designs) for _ in range(5)),
                          *(np.full(len(designs), np.nan) for _ in range(5)))
-    runs = []
+    # the topologies of one junction law and rectifier arrangement run as one batch
+    kinds: dict[tuple, list] = {}
     for idx in group_by_topology(designs):
         sub = [designs[i] for i in idx]
         phases, warm_at = make_phases(sub)
-        circuit = phases[0]
-        t_max = np.array([settle_time_estimate(circuit, b) for b in range(len(sub))])
+        t_max = np.array([settle_time_estimate(phases[0], b) for b in range(len(sub))])
         t_max = np.minimum(t_max, MAX_SWITCH_ON_S) + t_extra_s[idx]
-        n_rails = len(sub[0].rails)
-        fv = final_v[idx, :n_rails]
-        run = switch_on(phases, warm_at, final_v=fv, t_max_s=t_max, delay_s=delay_s[idx],
-                        record=record)
-        runs.append((idx, run))
-        # the steady state covers the tail beyond the run
-        peak = np.fmax(run.peak_v, tail_peak_v[idx, :n_rails])
-        for name, val in (("peak_v", peak), ("peak_t_s", run.peak_t_s), ("t90_s", run.t90_s),
-                          ("final_v", fv), ("last_v", run.last_v), ("surge_a", run.surge_a),
-                          ("surge_t_s", run.surge_t_s), ("i2t_a2s", run.i2t_a2s),
-                          ("settled", run.settled),
-                          ("end_s", run.end_s)):
-            _scatter(getattr(out, name), idx, val)
+        kind = (sub[0].rectifier.kind, sub[0].rectifier.arrangement)
+        kinds.setdefault(kind, []).append((idx, phases, warm_at, t_max))
+    runs = []
+    for members in kinds.values():
+        every = np.concatenate([np.asarray(m[0]) for m in members])
+        R = max(len(designs[m[0][0]].rails) for m in members)
+        fv = np.zeros((every.size, R))
+        warm = np.full((every.size, R), np.inf)
+        row = 0
+        for idx, _phases, warm_at, _t in members:
+            n, r = len(idx), len(designs[idx[0]].rails)
+            fv[row:row + n, :r] = final_v[idx, :r]
+            if warm_at is not None:
+                warm[row:row + n, :r] = warm_at
+            row += n
+        parts = switch_on_batches([m[1] for m in members], warm, final_v=fv,
+                                  t_max_s=np.concatenate([m[3] for m in members]),
+                                  delay_s=delay_s[every], record=record)
+        for (idx, *_rest), run in zip(members, parts, strict=True):
+            runs.append((idx, run))
+            n_rails = len(designs[idx[0]].rails)
+            # the steady state covers the tail beyond the run
+            peak = np.fmax(run.peak_v, tail_peak_v[idx, :n_rails])
+            for name, val in (("peak_v", peak), ("peak_t_s", run.peak_t_s),
+                              ("t90_s", run.t90_s), ("final_v", final_v[idx, :n_rails]),
+                              ("last_v", run.last_v), ("surge_a", run.surge_a),
+                              ("surge_t_s", run.surge_t_s), ("i2t_a2s", run.i2t_a2s),
+                              ("settled", run.settled), ("end_s", run.end_s)):
+                _scatter(getattr(out, name), idx, val)
     return out, runs
 
 
