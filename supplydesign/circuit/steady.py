@@ -58,7 +58,7 @@ CURRENT_TOLERANCE_A = 1e-9
 SHOOTING_TOLERANCE = 1e-9
 #: relative residual below which Newton reuses the last monodromy matrix (a chord step,
 #: the matrix corrected along each step by Broyden's update)
-CHORD_BELOW = 1e-3
+CHORD_BELOW = 1e-5
 #: a chord step must cut the residual this much for the next to be one too
 CHORD_RATE = 0.1
 #: periods of plain stepping before each further Newton attempt on designs that failed
