@@ -18,13 +18,21 @@ The load average of the machine is printed before and after.
     python3 benchmarks/cli_speed.py --save-figures ref.json.gz   # keep every figure
     python3 benchmarks/cli_speed.py --check-figures ref.json.gz  # compare at 1e-4
 
+benchmarks/data/figures-before-issue16.json.gz holds the figures of main at
+49e8eab, before the evaluator's speed work, saved with --save-figures (200 designs).
+
 ``--check-figures`` compares every number of the JSON output (nominal and worst
 cases) with figures saved by ``--save-figures`` from an earlier version, at
 ``--rtol`` relative (1e-4) with an absolute floor of ``--atol`` (1e-9) in the
 figure's own unit (1 uV for voltages, below the shooting's own tolerance), and
 prints the worst deviations. The solver's own counters
 (iterations, residual) are not figures and are skipped; keys the saved file lacks
-(figures added later) are ignored.
+(figures added later) are ignored. The differing figures are listed per design,
+noting the designs that now settle a case the saved run could not.
+
+``--old-exponential`` runs every command with scipy.linalg.expm in place of the
+evaluator's own matrix exponential (the one the saved figures were computed
+with): what still differs then comes from the solver, not the exponential.
 """
 
 from __future__ import annotations
@@ -33,6 +41,7 @@ import argparse
 import gzip
 import json
 import os
+import re
 import subprocess
 import sys
 import tempfile
@@ -79,17 +88,26 @@ def _write(designs, folder: str) -> list[str]:
     return paths
 
 
-def _run(files: list[str], worst: bool, out: str) -> float:
+#: the command run in place of ``-m supplydesign`` by --old-exponential
+OLD_EXPONENTIAL = ("import scipy.linalg, supplydesign.circuit.statespace as s; "
+                   "s.expm_batched = scipy.linalg.expm; from supplydesign.cli import main; "
+                   "raise SystemExit(main())")
+
+
+def _run(files: list[str], worst: bool, out: str, old_exponential: bool = False) -> float:
     """Wall time of one ``supplydesign evaluate`` process [s]."""
-    cmd = [sys.executable, "-m", "supplydesign", "evaluate", *files, "--quiet", "--json", out,
-           "--force"]
+    entry = ["-c", OLD_EXPONENTIAL] if old_exponential else ["-m", "supplydesign"]
+    cmd = [sys.executable, *entry, "evaluate", *files, "--quiet", "--json", out, "--force"]
     if not worst:
         cmd.append("--nominal-only")
     env = dict(os.environ)
+    # one BLAS thread, as ngspice runs on one core (on a loaded machine more threads only
+    # fight over the cores)
+    env.setdefault("OPENBLAS_NUM_THREADS", "1")
     root = os.path.dirname(HERE)
     env["PYTHONPATH"] = root + os.pathsep + env.get("PYTHONPATH", "")
     t0 = time.perf_counter()
-    proc = subprocess.run(cmd, env=env, capture_output=True, text=True, check=False)
+    proc = subprocess.run(cmd, env=env, capture_output=True, text=True, check=False, cwd=root)
     elapsed = time.perf_counter() - t0
     if proc.returncode not in (0, 1):  # 1: some design did not settle (counted below)
         raise SystemExit(f"evaluate failed ({proc.returncode}): {proc.stderr[-2000:]}")
@@ -147,6 +165,19 @@ def compare(saved: dict, now: dict, rtol: float, atol: float) -> list[str]:
     return bad
 
 
+def _summarise(bad: list[str]) -> None:
+    """Print the differing figures per design, saying which designs now settle a case
+    that the saved run could not settle."""
+    per: dict[str, list[str]] = {}
+    for line in bad:
+        found = re.match(r"(?:missing )?\[(\d+)\]", line)
+        per.setdefault(found.group(1) if found else "?", []).append(line)
+    for design, lines in per.items():
+        settles = sorted({ln.split(".")[1] for ln in lines if "converged: False -> True" in ln})
+        why = f" (now settles {', '.join(settles)})" if settles else ""
+        print(f"    design {design}: {len(lines)} figures{why}, e.g. {lines[0]}")
+
+
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--designs", type=int, default=200)
@@ -158,6 +189,9 @@ def main() -> None:
     ap.add_argument("--check-figures", metavar="FILE.json.gz")
     ap.add_argument("--rtol", type=float, default=1e-4)
     ap.add_argument("--atol", type=float, default=1e-9)
+    ap.add_argument("--old-exponential", action="store_true",
+                    help="run evaluate with scipy.linalg.expm, the matrix exponential of "
+                         "before: tells apart the figures that moved with the exponential")
     args = ap.parse_args()
 
     print(f"start: {_load()}")
@@ -174,8 +208,10 @@ def main() -> None:
             out = os.path.join(tmp, "out.json")
             for mode in modes:
                 worst = mode == "worst"
-                t1 = min(_run(files[:1], worst, out) for _ in range(args.repeat))
-                tn = min(_run(files, worst, out) for _ in range(args.repeat))
+                t1 = min(_run(files[:1], worst, out, args.old_exponential)
+                         for _ in range(args.repeat))
+                tn = min(_run(files, worst, out, args.old_exponential)
+                         for _ in range(args.repeat))
                 with open(out, encoding="utf-8") as fh:
                     data = json.load(fh)
                 figures.setdefault(name, {})[mode] = data
@@ -226,10 +262,7 @@ def main() -> None:
                 print(f"figures of {name}, {mode}, against {args.check_figures}:")
                 bad = compare(data, figures[name][mode], args.rtol, args.atol)
                 failed += len(bad)
-                for line in bad[:20]:
-                    print(f"    {line}")
-                if len(bad) > 20:
-                    print(f"    ... and {len(bad) - 20} more")
+                _summarise(bad)
         print(f"figures beyond {args.rtol:g} relative: {failed}")
         if failed:
             sys.exit(1)
