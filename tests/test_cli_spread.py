@@ -114,3 +114,27 @@ def test_bad_options_are_one_line_errors(args, key, capsys):
     assert main(["spread", str(EXAMPLE), *args]) == 2
     err = capsys.readouterr().err
     assert key in err and err.count("\n") == 1
+
+
+@pytest.fixture(scope="module")
+def small_spread():
+    """A small spread of the example, solved once for every width."""
+    from supplydesign.evaluation.spread import run_spread, summarise
+    from supplydesign.io import load_design
+
+    design = load_design(EXAMPLE)
+    return design, summarise(run_spread(design, builds=8, seed=1))
+
+
+@pytest.mark.parametrize("width", [80, 100, 160])
+def test_console_tables_fit_the_terminal_and_keep_values_whole(small_spread, width):
+    from console_support import broken_values, render, widest
+
+    from supplydesign.report import spread_console as sc
+
+    design, s = small_spread
+    text = render(lambda c: sc.render_spread(c, design, s), width)
+    assert widest(text) <= width
+    for sheet in (sc.sources_table(s), sc.dc_table(design, s), sc.hum_table(design, s),
+                  sc.drivers_table(s), sc.stresses_table(s)):
+        assert broken_values(text, sheet) == [], sheet.title

@@ -1,4 +1,4 @@
-"""Console report of a spread of many builds (rich tables, readable at 80 columns).
+"""Console report of a spread of many builds (tables laid out for the terminal's width).
 Presentation only: a :class:`~supplydesign.evaluation.spread.SpreadSummary` in, text out."""
 
 from __future__ import annotations
@@ -10,6 +10,7 @@ from ..design import Design
 from ..evaluation.spread import SpreadSummary, StressSpread
 from ..evaluation.spreadstats import DRIVERS_METHOD, YIELD_CI_METHOD
 from ..units import format_si
+from .layout import Column, Sheet, print_sheet
 
 #: drivers named per rail and figure
 TOP_DRIVERS = 3
@@ -35,32 +36,39 @@ def drivers_text(drivers, top: int = TOP_DRIVERS) -> str:
     return ", ".join(f"{d.part} {100 * d.share:.0f} %" for d in shown) or "—"
 
 
-def _table(title: str, *columns: str, caption: str | None = None):
-    from rich.table import Table
-
-    t = Table(title=title, title_justify="left", caption=caption, caption_justify="left")
-    for k, col in enumerate(columns):
-        t.add_column(col, justify="left" if k == 0 else "right")
-    return t
+def _sheet(title: str, *columns: Column) -> Sheet:
+    return Sheet(title, list(columns))
 
 
-def sources_table(s: SpreadSummary):
-    t = _table("Where each spread comes from", "part", "band", "distribution", "from",
-               caption="default: the band assumed for that kind of part when the file, the "
-                       "catalog and the E-series give none (from memory of makers' offers).")
-    t.columns[3].justify = "left"
+def escape(text: str) -> str:
+    """``text`` with its square brackets kept from being read as rich markup."""
+    from rich.markup import escape as rich_escape
+
+    return rich_escape(text)
+
+
+def _caption(console, text: str) -> None:
+    """A note under a table, dimmed and folded to the console's width."""
+    console.print(f"[dim]{escape(text)}[/]")
+
+
+def sources_table(s: SpreadSummary) -> Sheet:
+    t = _sheet("Where each spread comes from", Column("part", "left", key=True),
+               Column("band"), Column("distribution", "left"),
+               Column("from", "left", text=True))
     for f in s.factors:
         t.add_row(f.part, f.band, f.distribution, f.source)
     return t
 
 
-def dc_table(design: Design, s: SpreadSummary):
-    err = max((max(p.value - p.low, p.high - p.value) / abs(p.value)
-               for r in s.rails for p in r.dc_v if p.value), default=math.nan)
-    t = _table("DC of the builds: own mains, full signal", "rail", "1 %", "median", "99 %",
-               "target", "idle→full 1–99 %",
-               caption=f"Percentiles of {s.converged} settled builds; 95 % sampling error "
-                       f"at most ±{pct(err, 2)} of a value (the JSON gives each interval).")
+SOURCES_NOTE = ("default: the band assumed for that kind of part when the file, the catalog "
+                "and the E-series give none (from memory of makers' offers).")
+
+
+def dc_table(design: Design, s: SpreadSummary) -> Sheet:
+    t = _sheet("DC of the builds: own mains, full signal", Column("rail", "left", key=True),
+               *(Column(h, band="DC") for h in ("1 %", "median", "99 %")),
+               Column("target", band="target"), Column("idle→full 1–99 %", band="idle→full"))
     for rail, r in zip(design.rails, s.rails, strict=True):
         target = "—"
         if rail.voltage_v is not None:
@@ -71,9 +79,17 @@ def dc_table(design: Design, s: SpreadSummary):
     return t
 
 
-def hum_table(design: Design, s: SpreadSummary):
-    t = _table("Hum of the builds and yield per rail", "rail", "median", "99 %", "allowed",
-               "rail meets targets")
+def dc_note(s: SpreadSummary) -> str:
+    err = max((max(p.value - p.low, p.high - p.value) / abs(p.value)
+               for r in s.rails for p in r.dc_v if p.value), default=math.nan)
+    return (f"Percentiles of {s.converged} settled builds; 95 % sampling error at most "
+            f"±{pct(err, 2)} of a value (the JSON gives each interval).")
+
+
+def hum_table(design: Design, s: SpreadSummary) -> Sheet:
+    t = _sheet("Hum of the builds and yield per rail", Column("rail", "left", key=True),
+               Column("median", band="hum"), Column("99 %", band="hum"),
+               Column("allowed", band="hum"), Column("rail meets targets", band="yield"))
     for rail, r in zip(design.rails, s.rails, strict=True):
         allowed = format_si(rail.hum_v, "V") if rail.hum_v is not None else "—"
         style = "green" if r.yield_ >= 0.95 else ("yellow" if r.yield_ >= 0.8 else "bold red")
@@ -82,11 +98,10 @@ def hum_table(design: Design, s: SpreadSummary):
     return t
 
 
-def drivers_table(s: SpreadSummary):
-    t = _table("What drives the spread (share of the variance)", "rail", "figure",
-               f"largest {TOP_DRIVERS}", "fit R²",
-               caption=f"By {DRIVERS_METHOD} over the builds (see README).")
-    t.columns[2].justify = "left"
+def drivers_table(s: SpreadSummary) -> Sheet:
+    t = _sheet("What drives the spread (share of the variance)",
+               Column("rail", "left", key=True), Column("figure", "left"),
+               Column(f"largest {TOP_DRIVERS}", "left", text=True), Column("fit R²"))
     for r in s.rails:
         for k, (what, drivers, r2) in enumerate((("DC", r.dc_drivers, r.dc_r2),
                                                  ("hum", r.hum_drivers, r.hum_r2))):
@@ -95,6 +110,9 @@ def drivers_table(s: SpreadSummary):
                 fit = f"[yellow]{fit}[/]"
             t.add_row(r.name if k == 0 else "", what, drivers_text(drivers), fit)
     return t
+
+
+DRIVERS_NOTE = f"By {DRIVERS_METHOD} over the builds (see README)."
 
 
 def sag_text(lo: float, hi: float) -> str:
@@ -116,16 +134,18 @@ def _stress_row(x: StressSpread) -> list[str]:
     return [x.part, x.what, f"[{style}]{value} of {format_si(x.rating, x.unit)}[/]", over]
 
 
-def stresses_table(s: SpreadSummary):
-    t = _table("Part stresses at the 99th percentile of the builds", "part", "stress",
-               "99 % against rating", "builds over",
-               caption=f"No-load voltage: {s.no_load_method}. Other stresses at each "
-                       "build's own mains and full signal; surge from a cold switch-on "
-                       "at the crest of high mains.")
-    t.columns[1].justify = "left"
+def stresses_table(s: SpreadSummary) -> Sheet:
+    t = _sheet("Part stresses at the 99th percentile of the builds",
+               Column("part", "left", key=True), Column("stress", "left", text=True),
+               Column("99 % against rating"), Column("builds over"))
     for x in s.stresses:
         t.add_row(*_stress_row(x))
     return t
+
+
+def stresses_note(s: SpreadSummary) -> str:
+    return (f"No-load voltage: {s.no_load_method}. Other stresses at each build's own mains "
+            "and full signal; surge from a cold switch-on at the crest of high mains.")
 
 
 def mains_hint(s: SpreadSummary) -> str:
@@ -154,12 +174,15 @@ def render_spread(console, design: Design, s: SpreadSummary) -> None:
     console.print(f"Yield: [{style}]{yield_text(s.passed, s.builds, s.yield_ci)}[/] of the "
                   f"builds meet every rail's voltage band and hum allowance (95 % interval "
                   f"by {YIELD_CI_METHOD}).")
-    for table in (sources_table(s), dc_table(design, s), hum_table(design, s),
-                  drivers_table(s), stresses_table(s)):
-        console.print(table)
+    for sheet, note in ((sources_table(s), SOURCES_NOTE), (dc_table(design, s), dc_note(s)),
+                        (hum_table(design, s), None), (drivers_table(s), DRIVERS_NOTE),
+                        (stresses_table(s), stresses_note(s))):
+        print_sheet(console, sheet)
+        if note:
+            _caption(console, note)
     hint = mains_hint(s)
     if hint:
-        console.print(hint, markup=False)
+        console.print(escape(hint))
     console.print(Panel("\n".join((*CAUTION_LINES, SPREAD_CAUTION)), title="Caution",
                         border_style="yellow"))
 
@@ -173,13 +196,9 @@ def render_yields(console, result) -> None:
     for name, (i, _) in result.picks.items():
         marks.setdefault(i, []).append(name)
     cur = result.currency or ""
-    t = _table(f"Yield over {info['builds']} builds of each shown design (seed {info['seed']})",
-               "#", "filter", f"cost {cur}".strip(), "yield (95 % interval)", "pick",
-               caption="Each build draws every part within its tolerance and the mains across "
-                       "its band, as supplydesign spread does; it meets the brief when every "
-                       "rail lies within its voltage band and hum allowance.")
-    t.columns[1].justify = "left"
-    t.columns[4].justify = "left"
+    t = _sheet(f"Yield over {info['builds']} builds of each shown design (seed {info['seed']})",
+               Column("#", key=True), Column("filter", "left"), Column(f"cost {cur}".strip()),
+               Column("yield (95 % interval)"), Column("pick", "left", text=True))
     for k, c in enumerate(result.designs):
         if "yield" not in c.columns:
             continue
@@ -188,10 +207,13 @@ def render_yields(console, result) -> None:
         t.add_row(str(k + 1), c.notation, f"{c.cost:.2f}",
                   f"[{style}]{pct(y)}[/] ({100 * c.columns['yield_low']:.1f}–"
                   f"{pct(c.columns['yield_high'])})", ", ".join(marks.get(k, [])))
-    if t.row_count:
-        console.print(t)
+    if t.rows:
+        print_sheet(console, t)
+        _caption(console, "Each build draws every part within its tolerance and the mains "
+                          "across its band, as supplydesign spread does; it meets the brief "
+                          "when every rail lies within its voltage band and hum allowance.")
     least = result.extra.get("min_yield")
     if least is not None:
-        console.print(f"--min-yield {100 * least:.3g} %: {result.extra['below_min_yield']} "
-                      "designs below it or not measured were left out; the picks are chosen "
-                      "among the rest.", markup=False)
+        console.print(escape(f"--min-yield {100 * least:.3g} %: "
+                             f"{result.extra['below_min_yield']} designs below it or not "
+                             "measured were left out; the picks are chosen among the rest."))
