@@ -213,7 +213,7 @@ def test_findings_name_what_is_over(example):
     hot = replace(hot, rails=tuple(rails), transformer=tr)
     hl = heat_life([hot], full)
     text = "\n".join(t for _, t in findings(hot, hl, 0))
-    assert "capacitor ripple" in text and "below the 1e+05 h asked" in text
+    assert "capacitor ripple" in text and "below the 100 000 h asked" in text
     assert "rail 'splitter': resistor dissipates" in text and "IEC 60115-1" in text
     assert "capacitor input draws" in text and "assumes choke input" in text
     # film capacitor without life data: no life, no life finding

@@ -28,18 +28,27 @@ def test_capacitor_grid_and_layout():
     cat = load_catalog()
     tab = eseries_capacitors("E6", 4.7e-6, 470e-6)
     n_values = len(eseries.values("E6", 4.7e-6, 470e-6))
-    assert len(tab["part"]) == n_values * len(DEMO_PRICES.cap_voltages_v)
+    grades = len(DEMO_PRICES.cap_grades)
+    assert len(tab["part"]) == n_values * len(DEMO_PRICES.cap_voltages_v) * grades
     assert set(tab) == set(cat.table("capacitor"))
     assert set(tab["currency"]) == {DEMO_PRICES.currency}
     assert len(set(tab["part"])) == len(tab["part"])
 
 
 def test_capacitor_follows_the_stated_formulas():
-    m = DemoPriceModel(cap_base=1.0, cap_per_joule=0.5, cap_tan_delta=0.1, cap_ripple_k=4.0)
+    m = DemoPriceModel(cap_base=1.0, cap_per_joule=0.5, cap_tan_delta=0.1, cap_ripple_k=4.0,
+                       cap_grades=((85.0, 1000.0, 1.0), (105.0, 5000.0, 1.5)))
     tab = eseries_capacitors("E6", 47e-6, 47e-6, voltages_v=[450.0], model=m)
-    assert list(tab["part"]) == ["E6-47uF-450V"]
-    # hand-worked: energy 0.5 * 47e-6 * 450^2 = 4.75875 J -> 1 + 0.5 * 4.75875 = 3.379
-    assert tab["price"][0] == 3.38
+    assert list(tab["part"]) == ["E6-47uF-450V", "E6-47uF-450V-105C"]
+    # hand-worked: energy 0.5 * 47e-6 * 450^2 = 4.75875 J -> 1 + 0.5 * 4.75875 = 3.379;
+    # the 105 degC grade at 1.5 times: 5.068
+    assert tab["price"][0] == 3.38 and tab["price"][1] == 5.07
+    assert list(tab["rated_temperature_c"]) == [85.0, 105.0]
+    assert list(tab["rated_life_h"]) == [1000.0, 5000.0]
+    # the can: 4.75875 J / 6e5 J/m^3 + 1 cm^3 = 8.931 cm^3, height twice the diameter:
+    # d = (2 V / pi)^(1/3) = 17.84 mm -> 18 mm (to the half millimetre), 36 mm high
+    assert tab["diameter_m"][0] == pytest.approx(0.018) and tab["height_m"][0] == pytest.approx(
+        0.036)
     # ratings stated to three figures, as a data sheet states them: 0.1 / (2 pi 100 Hz
     # 47 uF) = 3.3863 ohm -> 3.39 ohm; 4 sqrt(47e-6 x 450) = 0.58172 A -> 0.582 A
     assert tab["esr_ohm"][0] == 3.39
@@ -56,7 +65,8 @@ def test_resistor_class_voltage_is_stated_to_three_figures():
 
 def test_capacitor_price_grows_with_capacitance_and_voltage():
     tab = eseries_capacitors("E12", 10e-6, 100e-6, voltages_v=[350.0, 450.0])
-    price = tab["price"].reshape(-1, 2)
+    cheap = tab["rated_temperature_c"] == DEMO_PRICES.cap_grades[0][0]
+    price = tab["price"][cheap].reshape(-1, 2)
     assert (np.diff(price, axis=0) >= 0).all() and (np.diff(price, axis=1) > 0).all()
 
 
@@ -86,7 +96,10 @@ def test_merge_with_catalog():
     both = merge_tables(cat.table("capacitor"), eseries_capacitors())
     n = len(cat.ids("capacitor")) + len(eseries_capacitors()["part"])
     assert all(len(col) == n for col in both.values())
-    assert np.isnan(both["diameter_m"][-1])  # the model has no sizes
+    # a film part of the catalog gives no life data; every model part gives its can and life
+    assert np.isnan(both["rated_life_h"][1])
+    model = slice(len(cat.ids("capacitor")), None)
+    assert (both["diameter_m"][model] > 0).all() and (both["rated_life_h"][model] > 0).all()
 
 
 def test_merge_refuses_two_currencies():

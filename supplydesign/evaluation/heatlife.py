@@ -34,69 +34,18 @@ import numpy as np
 
 from ..design import Design
 from ..parts import derating, fuses
+from ..parts.derating import (  # noqa: F401  (the rules, re-exported beside the figures)
+    DOUBLING_K,
+    HEAT_TRANSFER_W_M2K,
+    can_area_m2,
+    life_h,
+    temperature_rise_k,
+)
 
-#: heat transfer from a capacitor can to still air [W/(m^2 K)]: natural convection
-#: (about 5, from memory of textbook values for a vertical cylinder at a rise of
-#: 10-20 K) plus radiation from a sleeved can (4 eps sigma T^3 with eps = 0.9 at
-#: 330 K: 7) [derived for the radiation]
-HEAT_TRANSFER_W_M2K = 12.0
-#: life doubles for every this many kelvin cooler [practice: the Arrhenius rule of thumb
-#: of capacitor makers' application notes; IEC 60384-4 defines the endurance test]
-DOUBLING_K = 10.0
 #: mains voltages assumed where neither [transformer] primary nor the catalog gives one:
 #: IEC 60038 (230 V, 50 Hz) and ANSI C84.1 (120 V, 60 Hz, from memory)
 DEFAULT_PRIMARY_V = {50.0: 230.0, 60.0: 120.0}
 HOURS_PER_YEAR = 24.0 * 365.25
-
-
-def can_area_m2(diameter_m, height_m) -> np.ndarray:
-    """Cooling surface of a cylindrical can: side and top [m^2] (the base sits on the
-    board or chassis), ``pi d H + pi d^2 / 4``."""
-    d = np.asarray(diameter_m, dtype=float)
-    return np.pi * d * np.asarray(height_m, dtype=float) + np.pi * d**2 / 4.0
-
-
-def temperature_rise_k(ripple_rms_a, esr_ohm, area_m2, h_w_m2k=HEAT_TRANSFER_W_M2K) -> np.ndarray:
-    """Core temperature rise of a capacitor above the air around it [K].
-
-    ``dT = I^2 ESR / (h A)``: the ESR loss leaves through the can's surface.
-
-    Parameters
-    ----------
-    ripple_rms_a : array_like
-        Rms ripple current [A].
-    esr_ohm : array_like
-        Equivalent series resistance [ohm].
-    area_m2 : array_like
-        Cooling surface [m^2] (:func:`can_area_m2`).
-    h_w_m2k : float
-        Heat transfer coefficient [W/(m^2 K)].
-
-    References
-    ----------
-    .. [1] The heat balance of a body losing heat by convection and radiation,
-       Newton's law of cooling with a combined coefficient h (for example
-       F. P. Incropera, D. P. DeWitt, *Fundamentals of Heat and Mass Transfer*,
-       Wiley, ch. 1), from memory.
-    """
-    i = np.asarray(ripple_rms_a, dtype=float)
-    return i**2 * np.asarray(esr_ohm, dtype=float) / (h_w_m2k * np.asarray(area_m2, dtype=float))
-
-
-def life_h(rated_life_h, rated_c, core_c) -> np.ndarray:
-    """Estimated life of an electrolytic capacitor [h].
-
-    ``L = L_r 2^((T_r - T_core) / 10 K)``: the rated endurance ``L_r`` at the
-    rated temperature ``T_r``, doubled for every 10 K the core runs cooler.
-
-    References
-    ----------
-    .. [1] The Arrhenius-based "10 degree rule" of capacitor makers' application
-       notes [practice; no standard states it]; IEC 60384-4 defines the
-       endurance test at the rated temperature that gives ``L_r``.
-    """
-    return np.asarray(rated_life_h, dtype=float) * 2.0 ** (
-        (np.asarray(rated_c, dtype=float) - np.asarray(core_c, dtype=float)) / DOUBLING_K)
 
 
 def primary_v(design: Design) -> tuple[float, bool]:
@@ -221,9 +170,8 @@ def heat_life(designs: Sequence[Design], full) -> HeatLife:
     p, is_res = _rail_arrays(designs, R)
     ambient = p["ambient"]
     ripple = np.asarray(full.cap_ripple_rms_a, dtype=float)
-    rise = temperature_rise_k(ripple, p["esr"], can_area_m2(p["diameter"], p["height"]))
-    core = ambient + np.nan_to_num(rise, nan=0.0)
-    life = life_h(p["life"], p["rated_c"], core)
+    rise, core, life = derating.capacitor_heat(ripple, p["esr"], p["diameter"], p["height"],
+                                               p["life"], p["rated_c"], ambient)
     life = np.where(np.isnan(ripple), np.nan, life)
     allowed = p["ripple_rating"] * derating.ripple_derating(ambient, p["rated_c"])
     res_power = np.where(is_res, full.link_power_w, np.nan)
@@ -316,6 +264,11 @@ def suggest_fuses(designs: Sequence[Design], high_full, surge_i2t=None) -> FuseS
         primary_v=vp, primary_given=np.array([g for _, g in volts]), high=high)
 
 
+def hours(x: float) -> str:
+    """A life to two significant figures with thin thousands: 7 600."""
+    return f"{float(f'{x:.2g}'):,.0f}".replace(",", " ") if x >= 100 else f"{x:.2g}"
+
+
 def fuses_of(wc) -> FuseSuggestion:
     """The fuse suggestions of analysed designs
     (:class:`~supplydesign.evaluation.worstcase.WorstCases`): high mains at full signal
@@ -337,8 +290,9 @@ def findings(d: Design, hl: HeatLife, b: int) -> list[tuple[str, str]]:
                                    f"{allowed:.3g} A rating at {hl.ambient_c[b, i]:.0f} °C"))
         life = hl.cap_life_h[b, i]
         if d.chassis.min_life_h is not None and np.isfinite(life) and life < d.chassis.min_life_h:
-            out.append(("warning", f"rail {r.name!r}: capacitor life about {life:.3g} h, below "
-                                   f"the {d.chassis.min_life_h:.3g} h asked"))
+            out.append(("warning", f"rail {r.name!r}: capacitor life about {hours(life)} h "
+                                   f"with its core at {hl.cap_core_c[b, i]:.0f} °C, below the "
+                                   f"{hours(d.chassis.min_life_h)} h asked"))
         p, pa = hl.res_power_w[b, i], hl.res_allowed_w[b, i]
         if np.isfinite(pa) and p > pa:
             out.append(("warning", f"rail {r.name!r}: resistor dissipates {p:.3g} W, above its "

@@ -7,7 +7,9 @@ over arrays (temperatures in degC, powers in W, currents in A):
   ambient temperature of 70 degC and falls linearly to zero at the upper
   category temperature (a catalog column; ``DEFAULT_UPPER_C`` where none is
   given, the common figure of metal film resistors).
-- **Electrolytic capacitors**: the ripple current rating applies at the rated
+- **Electrolytic capacitors**: the core runs warmer than the air by I^2 ESR /
+  (h A) (:func:`temperature_rise_k`), and lives the longer the cooler it runs
+  (:func:`life_h`, the doubling per 10 K). The ripple current rating applies at the rated
   (upper category) temperature, where it warms the core by about
   ``RATED_RISE_K``. No credit is taken for a cooler ambient, which the makers'
   multipliers allow: the rating holds up to the rated temperature and falls
@@ -54,6 +56,77 @@ ASSUMED_FORM_FACTOR = {
 }
 #: the load a DC rating assumes where the file and catalog do not say
 DEFAULT_RATED_FOR = "capacitor input"
+#: heat transfer from a capacitor can to still air [W/(m^2 K)]: natural convection
+#: (about 5, from memory of textbook values for a vertical cylinder at a rise of
+#: 10-20 K) plus radiation from a sleeved can (4 eps sigma T^3 with eps = 0.9 at
+#: 330 K: 7) [derived for the radiation]
+HEAT_TRANSFER_W_M2K = 12.0
+#: life doubles for every this many kelvin cooler [practice: the Arrhenius rule of thumb
+#: of capacitor makers' application notes; IEC 60384-4 defines the endurance test]
+DOUBLING_K = 10.0
+
+
+def can_area_m2(diameter_m, height_m) -> np.ndarray:
+    """Cooling surface of a cylindrical can: side and top [m^2] (the base sits on the
+    board or chassis), ``pi d H + pi d^2 / 4``."""
+    d = np.asarray(diameter_m, dtype=float)
+    return np.pi * d * np.asarray(height_m, dtype=float) + np.pi * d**2 / 4.0
+
+
+def temperature_rise_k(ripple_rms_a, esr_ohm, area_m2, h_w_m2k=HEAT_TRANSFER_W_M2K) -> np.ndarray:
+    """Core temperature rise of a capacitor above the air around it [K].
+
+    ``dT = I^2 ESR / (h A)``: the ESR loss leaves through the can's surface.
+
+    Parameters
+    ----------
+    ripple_rms_a : array_like
+        Rms ripple current [A].
+    esr_ohm : array_like
+        Equivalent series resistance [ohm].
+    area_m2 : array_like
+        Cooling surface [m^2] (:func:`can_area_m2`).
+    h_w_m2k : float
+        Heat transfer coefficient [W/(m^2 K)].
+
+    References
+    ----------
+    .. [1] The heat balance of a body losing heat by convection and radiation,
+       Newton's law of cooling with a combined coefficient h (for example
+       F. P. Incropera, D. P. DeWitt, *Fundamentals of Heat and Mass Transfer*,
+       Wiley, ch. 1), from memory.
+    """
+    i = np.asarray(ripple_rms_a, dtype=float)
+    return i**2 * np.asarray(esr_ohm, dtype=float) / (h_w_m2k * np.asarray(area_m2, dtype=float))
+
+
+def life_h(rated_life_h, rated_c, core_c) -> np.ndarray:
+    """Estimated life of an electrolytic capacitor [h].
+
+    ``L = L_r 2^((T_r - T_core) / 10 K)``: the rated endurance ``L_r`` at the
+    rated temperature ``T_r``, doubled for every 10 K the core runs cooler.
+
+    References
+    ----------
+    .. [1] The Arrhenius-based "10 degree rule" of capacitor makers' application
+       notes [practice; no standard states it]; IEC 60384-4 defines the
+       endurance test at the rated temperature that gives ``L_r``.
+    """
+    return np.asarray(rated_life_h, dtype=float) * 2.0 ** (
+        (np.asarray(rated_c, dtype=float) - np.asarray(core_c, dtype=float)) / DOUBLING_K)
+
+
+def capacitor_heat(ripple_rms_a, esr_ohm, diameter_m, height_m, rated_life_h, rated_c,
+                   ambient_c) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """A capacitor's core rise [K], core temperature [degC] and estimated life [h].
+
+    The rise is NaN without a can size (the core is then taken at the air
+    temperature), the life NaN without rated life and temperature. Arguments
+    broadcast together (:func:`temperature_rise_k`, :func:`life_h`).
+    """
+    rise = temperature_rise_k(ripple_rms_a, esr_ohm, can_area_m2(diameter_m, height_m))
+    core = np.asarray(ambient_c, dtype=float) + np.nan_to_num(rise, nan=0.0)
+    return rise, core, life_h(rated_life_h, rated_c, core)
 
 
 def resistor_derating(ambient_c, upper_c=DEFAULT_UPPER_C) -> np.ndarray:

@@ -35,6 +35,10 @@ class DemoPriceModel:
     - ripple rating = ``cap_ripple_k * sqrt(C V)`` [A] (C in F, V in V), a
       stand-in for the can surface growing with the stored charge
     - available at the ratings ``cap_voltages_v`` [V], tolerance ``cap_tolerance``
+    - in the grades ``cap_grades``: (rated temperature [degC], rated life [h],
+      price factor), a cheap 85 degC grade and a dearer 105 degC one
+    - can volume ``C V^2 / 2 / cap_joules_per_m3 + cap_min_volume_m3``, the height
+      twice the diameter, both to the half millimetre
 
     Resistors (one power class per entry of ``res_powers_w`` [W]):
 
@@ -53,6 +57,10 @@ class DemoPriceModel:
     cap_ripple_k: float = 4.0
     cap_tolerance: float = 0.20
     cap_voltages_v: tuple[float, ...] = (350.0, 400.0, 450.0, 500.0, 550.0, 600.0)
+    cap_grades: tuple[tuple[float, float, float], ...] = ((85.0, 1000.0, 1.0),
+                                                          (105.0, 5000.0, 1.35))
+    cap_joules_per_m3: float = 6e5
+    cap_min_volume_m3: float = 1e-6
     res_base: float = 0.08
     res_per_watt: float = 0.09
     res_volts_per_sqrt_watt: float = 350.0
@@ -91,8 +99,9 @@ def eseries_capacitors(series: str = "E6", lo: float = 4.7e-6, hi: float = 470e-
     Returns
     -------
     dict of str to numpy.ndarray
-        The keys of ``Catalog.table("capacitor")``; ``part`` ids read like
-        ``E6-47uF-450V`` and ``source`` is ``"model"``.
+        The keys of ``Catalog.table("capacitor")``; one block of rows per grade, the
+        first grade's ``part`` ids read like ``E6-47uF-450V``, the others' like
+        ``E6-47uF-450V-105C``; ``source`` is ``"model"``.
     """
     c = eseries.values(series, lo, hi)
     v = np.asarray(model.cap_voltages_v if voltages_v is None else voltages_v, dtype=float)
@@ -100,13 +109,21 @@ def eseries_capacitors(series: str = "E6", lo: float = 4.7e-6, hi: float = 470e-
     price = model.cap_base + model.cap_per_joule * 0.5 * cc * vv**2
     esr = model.cap_tan_delta / (2 * np.pi * 100.0 * cc)
     ripple = model.cap_ripple_k * np.sqrt(cc * vv)
+    volume = 0.5 * cc * vv**2 / model.cap_joules_per_m3 + model.cap_min_volume_m3
+    diameter = np.round((2.0 * volume / np.pi) ** (1.0 / 3.0) * 2000.0) / 2000.0  # h = 2 d
     ids = [f"{series}-{_label(ci, 'F')}-{vi:g}V" for ci, vi in zip(cc, vv, strict=True)]
-    rows = [{"part": i, "description": f"{series} value, demo price model",
-             "capacitance_f": ci, "voltage_rating_v": vi, "esr_ohm": model.stated(ei),
-             "ripple_rating_a": model.stated(ri),
-             "tolerance": model.cap_tolerance, "price": round(pi, 2),
-             "currency": model.currency, "source": "model"}
-            for i, ci, vi, ei, ri, pi in zip(ids, cc, vv, esr, ripple, price, strict=True)]
+    rows = []
+    for g, (rated_c, life, factor) in enumerate(model.cap_grades):
+        suffix = f"-{rated_c:g}C" if g else ""
+        rows += [{"part": i + suffix,
+                  "description": f"{series} value, {rated_c:g} degC grade, demo price model",
+                  "capacitance_f": ci, "voltage_rating_v": vi, "esr_ohm": model.stated(ei),
+                  "ripple_rating_a": model.stated(ri), "tolerance": model.cap_tolerance,
+                  "diameter_m": di, "height_m": 2.0 * di, "rated_life_h": life,
+                  "rated_temperature_c": rated_c, "price": round(pi * factor, 2),
+                  "currency": model.currency, "source": "model"}
+                 for i, ci, vi, ei, ri, pi, di in zip(ids, cc, vv, esr, ripple, price, diameter,
+                                                      strict=True)]
     return table_from_rows(CAPACITOR, rows)
 
 

@@ -44,6 +44,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..design import DEFAULT_AMBIENT_C
+from . import derating
 from .catalog import Catalog
 from .eseries import REL_TOL
 from .pricing import eseries_capacitors, merge_tables, model_resistor_classes
@@ -173,14 +175,16 @@ def cheapest(price: np.ndarray, adequate: np.ndarray) -> Picks:
 
 
 def choose_capacitors(table: dict[str, np.ndarray], capacitance_f, voltage_v, ripple_a,
-                      ripple_factor=1.0) -> Picks:
+                      ripple_factor=1.0, *, ambient_c=None, min_life_h=None) -> Picks:
     """Cheapest capacitor of the given capacitance with enough voltage and ripple rating.
 
     Parameters
     ----------
     table : dict of str to numpy.ndarray
         Candidates (``capacitance_f``, ``voltage_rating_v``, ``ripple_rating_a``
-        at 100 Hz, ``price``).
+        at 100 Hz and the rated temperature, ``price``; for ``ambient_c`` and
+        ``min_life_h`` also ``rated_temperature_c``, ``rated_life_h``, ``esr_ohm``,
+        ``diameter_m``, ``height_m``, NaN where unknown).
     capacitance_f : array_like, shape (n,) or scalar
         The designs' capacitance [F].
     voltage_v : array_like
@@ -190,14 +194,31 @@ def choose_capacitors(table: dict[str, np.ndarray], capacitance_f, voltage_v, ri
     ripple_factor : array_like
         Share of the 100 Hz rating available at the ripple frequency (1 for
         full-wave and bridge, ``low_frequency_ripple_factor`` for half-wave).
+    ambient_c : array_like, optional
+        Air temperature around the capacitor [degC]: the ripple rating is derated
+        for it (:func:`~supplydesign.parts.derating.ripple_derating`).
+    min_life_h : float, optional
+        Least estimated life at ``ambient_c`` with this ripple current
+        (:func:`~supplydesign.parts.derating.capacitor_heat`) [h]; a part without
+        rated life data cannot show it and is not chosen.
 
     Returns
     -------
     Picks
     """
     c, v, i, k = _columns(capacitance_f, voltage_v, ripple_a, ripple_factor)
+    allowed = table["ripple_rating_a"][None, :] * k
+    if ambient_c is not None or min_life_h is not None:
+        ta = _columns(DEFAULT_AMBIENT_C if ambient_c is None else ambient_c, capacitance_f)[0]
+        allowed = allowed * derating.ripple_derating(ta, table["rated_temperature_c"][None, :])
     ok = (_equal(c, table["capacitance_f"]) & (table["voltage_rating_v"][None, :] >= v)
-          & (table["ripple_rating_a"][None, :] * k >= i))
+          & (allowed >= i))
+    if min_life_h is not None:
+        _, _, life = derating.capacitor_heat(
+            i, table["esr_ohm"][None, :], table["diameter_m"][None, :],
+            table["height_m"][None, :], table["rated_life_h"][None, :],
+            table["rated_temperature_c"][None, :], ta)
+        ok &= life >= min_life_h  # NaN (no data) compares False
     return cheapest(table["price"], ok)
 
 
@@ -222,26 +243,36 @@ def choose_chokes(table: dict[str, np.ndarray], inductance_h, max_dcr_ohm, dc_a)
     return cheapest(table["price"], ok)
 
 
-def choose_resistors(table: dict[str, np.ndarray], resistance_ohm, power_w, voltage_v) -> Picks:
+def choose_resistors(table: dict[str, np.ndarray], resistance_ohm, power_w, voltage_v, *,
+                     dissipation_w=None, ambient_c=None) -> Picks:
     """Cheapest resistor power class for a value, a power and a voltage across it.
 
     Parameters
     ----------
     table : dict of str to numpy.ndarray
         Power classes (``power_w``, ``max_voltage_v``, ``min_resistance_ohm``,
-        ``max_resistance_ohm`` (NaN: no limit), ``price``).
+        ``max_resistance_ohm`` (NaN: no limit), ``price``; for ``ambient_c`` also
+        ``upper_temperature_c``, NaN for the default).
     resistance_ohm : array_like
         The designs' resistance [ohm].
     power_w : array_like
         Power rating needed (the factor over the dissipation included) [W].
     voltage_v : array_like
         Highest steady voltage across the resistor [V].
+    dissipation_w, ambient_c : array_like, optional
+        The dissipation [W] the class must take at this air temperature [degC],
+        its rating derated there (IEC 60115-1,
+        :func:`~supplydesign.parts.derating.resistor_derating`).
     """
     r, p, v = _columns(resistance_ohm, power_w, voltage_v)
     lo = np.nan_to_num(table["min_resistance_ohm"], nan=0.0)[None, :]
     hi = np.nan_to_num(table["max_resistance_ohm"], nan=np.inf)[None, :]
     ok = ((table["power_w"][None, :] >= p) & (table["max_voltage_v"][None, :] >= v)
           & (r >= lo * (1 - REL_TOL)) & (r <= hi * (1 + REL_TOL)))
+    if dissipation_w is not None and ambient_c is not None:
+        d, ta = _columns(dissipation_w, ambient_c)
+        upper = table.get("upper_temperature_c", np.full(len(table["power_w"]), np.nan))
+        ok &= table["power_w"][None, :] * derating.resistor_derating(ta, upper[None, :]) >= d
     return cheapest(table["price"], ok)
 
 

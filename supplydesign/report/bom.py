@@ -99,7 +99,10 @@ def _source_lines(design: Design) -> list[BomLine]:
         _join(f"{'2 x ' if ct else ''}{volts} rms open circuit",
               f"{_q(t.resistance_ohm, 'ohm')} source resistance",
               f"{_q(t.leakage_h, 'H')} leakage" if t.leakage_h else ""),
-        _join(f"{_q(t.rated_current_a, 'A', 3)} DC" if t.rated_current_a else ""),
+        _join(f"{_q(t.rated_current_a, 'A', 3)} DC" + (f" ({t.rated_for})" if t.rated_for
+                                                         else "") if t.rated_current_a else "",
+              f"{_q(t.rated_rms_a, 'A', 3)} rms" if t.rated_rms_a else "",
+              f"{t.rated_va:g} VA" if t.rated_va else ""),
         1, t.price, t.currency)]
     n = rectifier_pieces(r)
     ratings = _join(f"peak {_q(r.max_peak_current_a, 'A', 3)}" if r.max_peak_current_a else "",

@@ -106,24 +106,24 @@ def resistor_rows(design: Design, hl: HeatLife, b: int) -> list[dict]:
 def transformer_line(design: Design, hl: HeatLife, b: int) -> str:
     t = design.transformer
     per = " per half" if t.winding == "center-tapped" else ""
-    text = (f"Transformer: {format_si(hl.winding_rms_a[b], 'A')} rms{per} at "
+    rms, allowed = hl.winding_rms_a[b], hl.winding_allowed_a[b]
+    text = (f"Transformer: {format_si(rms, 'A')} rms{per} at "
             f"{format_si(hl.output_dc_a[b], 'A')} DC out of the rectifier (form factor "
             f"{hl.form_factor[b]:.2f}); copper loss {format_si(hl.copper_loss_w[b], 'W')}")
-    allowed = hl.winding_allowed_a[b]
     if not math.isfinite(allowed):
         return text + ". No rating given (rated_current, rated_rms_current or rated_power)."
-    text += f" ({format_si(hl.copper_loss_rated_w[b], 'W')} at its rating)."
+    text += (f", {format_si(hl.copper_loss_rated_w[b], 'W')} at its rating. "
+             f"{100 * rms / allowed:.0f} % of ")
     basis = hl.winding_basis[b]
     if basis == "DC":
         ff = float(derating.assumed_form_factor(hl.winding_rated_for[b],
                                                 design.rectifier.arrangement)[0])
-        text += (f" Its {format_si(t.rated_current_a, 'A')} DC rating, for a "
-                 f"{hl.winding_rated_for[b]}, allows about {format_si(allowed, 'A')} rms "
-                 f"(an assumed form factor of {ff:.2f}).")
-    elif basis == "VA":
-        text += (f" Its {t.rated_va:g} VA rating allows {format_si(allowed, 'A')} rms"
-                 f"{per}.")
-    return text
+        return text + (f"the {format_si(allowed, 'A')} rms its {format_si(t.rated_current_a, 'A')}"
+                       f" DC rating allows for a {hl.winding_rated_for[b]} (an assumed form "
+                       f"factor of {ff:.2f}).")
+    if basis == "VA":
+        return text + f"the {format_si(allowed, 'A')} rms{per} of its {t.rated_va:g} VA rating."
+    return text + f"its {format_si(allowed, 'A')} rms rating{per}."
 
 
 def fuse_lines(design: Design, fs: FuseSuggestion, b: int) -> list[str]:
@@ -150,7 +150,8 @@ def fuse_lines(design: Design, fs: FuseSuggestion, b: int) -> list[str]:
                      f"{100 * fuses.SURGE_SHARE:.0f} % of the melting I²t, typically "
                      f"{fuses.MELTING_I2T_S:g} A²s per A² of rating: from memory)")
         else:
-            text += "switch-on surge not checked (run evaluate without --nominal-only)"
+            text += ("switch-on surge not checked here (evaluate the design file, without "
+                     "--nominal-only, to check it)")
         if which == "Mains":
             text += "; the transformer's inrush and cold heaters are not modelled"
             if design.transformer.other_load_va is None:

@@ -172,11 +172,12 @@ def _rails_table(c, fig: Figures | None) -> str:
 def _symbols(text: str) -> str:
     """ASCII units of the CSV ("47 uF", "2.2 kohm") with their symbols ("47 µF", "2.2 kΩ")."""
     text = re.sub(r"(?<=\d )u(?=[FAHVW]\b)", "µ", text)
+    text = re.sub(r"(?<=\d) degC\b", " °C", text)
     return re.sub(r"(?<=[\d ]|[kmM])ohm\b", "Ω", text)
 
 
-def _bom_table(c) -> str:
-    lines = bom_lines(c.design)
+def _bom_table(c, fuses=None) -> str:
+    lines = bom_lines(c.design, fuses)
     rows = [[b.ref, b.rail, b.kind, b.part, _symbols(b.value), _symbols(b.rating), b.quantity,
              "" if b.unit_price is None else f"{b.unit_price:.2f}",
              "" if b.total_price is None else f"{b.total_price:.2f}", b.currency or ""]
@@ -190,8 +191,45 @@ def _bom_table(c) -> str:
                   row_class=lambda k: "total" if k >= n else "")
 
 
+def _heat_section(design, heat: dict) -> str:
+    """Heat and life of a design and its fuses: ``heat`` holds its HeatLife ``hl``, its
+    row ``b`` and its FuseSuggestion ``fs`` (:mod:`supplydesign.evaluation.heatlife`)."""
+    from ..evaluation.heatlife import findings
+    from .heatlife import capacitor_rows, fuse_lines, heading, resistor_rows, transformer_line
+
+    hl, b, fs = heat["hl"], heat["b"], heat["fs"]
+    caps = capacitor_rows(design, hl, b)
+    parts = [f"<h3>Heat and life at full signal: {_e(heading(design))}</h3>"]
+    if caps:
+        parts.append(_table(["capacitor", "ripple rms", "rating", "rise", "air → core", "life"],
+                            [[r["part"], r["ripple"], r["rating"], r["rise"], r["core"],
+                              r["life"]] for r in caps], numeric=(1, 2, 3, 4, 5)))
+    res = resistor_rows(design, hl, b)
+    if res:
+        parts.append(_table(["resistor", "dissipation", "rating at its air", "air", "upper"],
+                            [[r["part"], r["power"], r["rating"], r["air"], r["upper"]]
+                             for r in res], numeric=(1, 2, 3, 4)))
+    notes = [transformer_line(design, hl, b),
+             *(f"{level}: {text}" for level, text in findings(design, hl, b))]
+    parts.append("".join(f'<p class="note">{_e(x)}</p>' for x in notes))
+    lines = fuse_lines(design, fs, b)
+    parts.append("<h3>Fuses</h3><ul>" + "".join(f"<li>{_e(x)}</li>" for x in lines[:-1])
+                 + f'</ul><p class="note">{_e(lines[-1])}</p>')
+    return "".join(parts)
+
+
+def _exclusion_section(result) -> str:
+    ex = getattr(result, "heat_exclusion", None)
+    if not ex:
+        return ""
+    head, *rest = ex["text"]
+    items = "".join(f"<li>{_e(x)}</li>" for x in rest)
+    return (f'<section id="heat"><h2>Left out for heat and life</h2><p>{_e(head)}</p>'
+            f"<ul>{items}</ul></section>")
+
+
 def _design_section(result, i: int, fig: Figures | None, svgs: Mapping[str, str],
-                    width: int) -> str:
+                    width: int, heat: dict | None = None) -> str:
     c = result.designs[i]
     names = pick_marks(result.picks).get(i, [])
     cur = result.currency or ""
@@ -213,7 +251,13 @@ def _design_section(result, i: int, fig: Figures | None, svgs: Mapping[str, str]
     }
     for what, caption in captions.items():
         parts.append(_figure(svgs, design_key(i, what, width), caption))
-    parts += ["<h3>Bill of materials</h3>", _bom_table(c), "</section>"]
+    fuses = None
+    if heat is not None:
+        from .heatlife import bom_fuses
+
+        parts.append(_heat_section(c.design, heat))
+        fuses = bom_fuses(c.design, heat["fs"], heat["b"])
+    parts += ["<h3>Bill of materials</h3>", _bom_table(c, fuses), "</section>"]
     return "".join(parts)
 
 
@@ -267,7 +311,7 @@ def _caution_box() -> str:
 
 
 def synth_report_html(result, svgs: Mapping[str, str], waves: Mapping[int, Figures], *,
-                      seed: int | None = None) -> str:
+                      seed: int | None = None, heat: Mapping[int, dict] | None = None) -> str:
     """The HTML page of a synthesis run.
 
     Parameters
@@ -280,6 +324,8 @@ def synth_report_html(result, svgs: Mapping[str, str], waves: Mapping[int, Figur
         The designs shown in detail (the picks), with their evaluated figures.
     seed : int, optional
         The run's seed, for the record.
+    heat : mapping of design index to dict, optional
+        Heat, life and fuses of the designs shown in detail (see :func:`_heat_section`).
     """
     from .. import __version__
 
@@ -308,7 +354,9 @@ def synth_report_html(result, svgs: Mapping[str, str], waves: Mapping[int, Figur
                  _figure(svgs, "pareto", "Each point is a verified design; the marked ones "
                          "are the picks. Sag is the worst rail's DC drop from idle to full "
                          "signal.", wide=True), HUM_NOTE, "</section>"]
-        body += [_design_section(result, i, waves.get(i), svgs, width) for i in shown]
+        body.append(_exclusion_section(result))
+        body += [_design_section(result, i, waves.get(i), svgs, width, (heat or {}).get(i))
+                 for i in shown]
         body += [_comparison_section(result, cur), _yield_section(result),
                  _all_section(result, cur)]
     body.append('<p class="note">Parts and prices come from the catalog in use; the built-in '

@@ -21,10 +21,29 @@ from . import pictures
 from .bom import bom_csv
 
 
-def write_bom(path: str, designs: Sequence[tuple[str, Design]], *, force: bool = False) -> str:
-    """Write the BOM CSV of labelled designs to ``path`` (atomically); returns the path."""
-    write_text_atomic(path, bom_csv(designs), force=force)
+def write_bom(path: str, designs: Sequence[tuple[str, Design]], *, force: bool = False,
+              fuses: Sequence | None = None) -> str:
+    """Write the BOM CSV of labelled designs (and their fuses, where given) to ``path``
+    (atomically); returns the path."""
+    write_text_atomic(path, bom_csv(designs, fuses), force=force)
     return path
+
+
+def picks_heat(result, idx: Sequence[int], steps: int = 512) -> dict[int, dict]:
+    """Heat, life and fuses of the picked designs ``idx``: {index: {"hl", "b", "fs"}}.
+
+    The fuses follow the running current at high mains (one solve of the picks); the
+    switch-on surge is checked by ``evaluate`` on a design file, not here."""
+    from ..evaluation.analysis import evaluate_arrays
+    from ..evaluation.cases import HIGH_MAINS_FULL_LOAD, solve_case
+    from ..evaluation.heatlife import heat_life, suggest_fuses
+
+    designs = [result.designs[i].design for i in idx]
+    if not designs:
+        return {}
+    hl = heat_life(designs, evaluate_arrays(designs, steps=steps))
+    fs = suggest_fuses(designs, solve_case(designs, HIGH_MAINS_FULL_LOAD, steps).arrays)
+    return {i: {"hl": hl, "b": b, "fs": fs} for b, i in enumerate(idx)}
 
 
 def write_synth_outputs(result, out_dir: str | None, *, plot_dir: str | None = None,
@@ -38,14 +57,20 @@ def write_synth_outputs(result, out_dir: str | None, *, plot_dir: str | None = N
     Returns the paths written."""
     written = []
     width = pictures.number_width(len(result.designs))
+    idx = pictures.picked(result)
+    heat = picks_heat(result, idx, steps) if out_dir and result.designs else {}
     if out_dir and result.designs:
         labels = [(f"designs/{k:0{width}d}.toml", c.design)
                   for k, c in enumerate(result.designs, start=1)]
-        written.append(write_bom(os.path.join(out_dir, "bom.csv"), labels, force=force))
+        from .heatlife import bom_fuses
+
+        fuses = [bom_fuses(c.design, heat[k]["fs"], heat[k]["b"]) if k in heat else None
+                 for k, c in enumerate(result.designs)]
+        written.append(write_bom(os.path.join(out_dir, "bom.csv"), labels, force=force,
+                                 fuses=fuses))
     want_report = bool(out_dir) and report
     if not (want_report or plot_dir):
         return written
-    idx = pictures.picked(result)
     waves = dict(zip(idx, pictures.waveform_figures([result.designs[i].design for i in idx],
                                                     steps), strict=True))
     figs = pictures.synth_figures(result, waves, switch_on=switch_on, impedance=impedance)
@@ -57,7 +82,8 @@ def write_synth_outputs(result, out_dir: str | None, *, plot_dir: str | None = N
 
         svgs = {name: svg_markup(fig, f"f{k}") for k, (name, fig) in enumerate(figs.items())}
         path = os.path.join(out_dir, "report.html")
-        write_text_atomic(path, synth_report_html(result, svgs, waves, seed=seed), force=force)
+        write_text_atomic(path, synth_report_html(result, svgs, waves, seed=seed, heat=heat),
+                          force=force)
         written.append(path)
     return written
 

@@ -134,6 +134,9 @@ def render_synthesis(console, result, limit: int = 25, more=None) -> None:
     picks = "\n".join(f"[bold]{name}[/] #{i + 1}: {why}" for name, (i, why) in
                       result.picks.items())
     console.print(Panel(picks, title="Picks"))
+    ex = getattr(result, "heat_exclusion", None)
+    if ex:
+        console.print(Panel("\n".join(ex["text"]), title="Left out for heat and life"))
     cmp = result.comparison
     if cmp:
         r, c = cmp["resistor"], cmp["choke"]

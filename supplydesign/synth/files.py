@@ -87,6 +87,10 @@ def write_run(result: SynthResult, out_dir: str, *, force: bool = False,
            "seed": seed, "evaluations": result.evaluations,
            "picks": {n: {"design": i + 1, "why": why} for n, (i, why) in result.picks.items()},
            "explanation": result.explanation, "caution": " ".join(CAUTION_LINES)}
+    if result.heat_exclusion:
+        ex = result.heat_exclusion
+        doc["heat_and_life_exclusion"] = {"cost": ex["cost"], "notation": ex["notation"],
+                                          "text": ex["text"]}
     if result.comparison:
         idx = {id(c): k for k, c in enumerate(result.designs, start=1)}
         doc["choke_vs_resistor"] = {

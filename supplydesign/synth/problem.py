@@ -132,6 +132,10 @@ class Evaluated:
         self.F = np.zeros((0, len(OBJECTIVES)))
         self.G = np.zeros((0, len(names)))
         self.columns: dict[str, np.ndarray] = {}
+        # each candidate with the capacitors it was solved with (the cheapest for their
+        # voltage): its cost, and whether those parts miss a heat or life rule
+        self.base_cost = np.zeros(0)
+        self.base_heat_fail = np.zeros(0, dtype=bool)
         self._sorted = np.zeros(0, dtype=np.dtype((np.void, 8 * n_var)))
         self._order = np.zeros(0, dtype=int)
 
@@ -157,6 +161,8 @@ class Evaluated:
         self.G = np.concatenate([self.G, scores.G])
         for k, v in scores.columns.items():
             self.columns[k] = np.concatenate([self.columns.get(k, np.zeros(0)), v])
+        self.base_cost = np.concatenate([self.base_cost, scores.base_cost])
+        self.base_heat_fail = np.concatenate([self.base_heat_fail, scores.base_heat_fail])
         keys = self._keys(self.X)
         self._order = np.argsort(keys, kind="stable")
         self._sorted = keys[self._order]

@@ -34,6 +34,7 @@ from ..parts.rating import (
     row,
 )
 from ..units import format_si
+from .space import CAPACITOR_HEAT_KEYS
 
 HIGH_MAINS_NO_LOAD = "high_mains_no_load"
 #: operating case name -> words used in the reasons
@@ -106,6 +107,11 @@ def _label(chosen: dict) -> str:
     return f"{chosen['part']}, {chosen['price']:.2f} {chosen['currency']}"
 
 
+def _number(x) -> float | None:
+    """A float of a candidate row, None where the cell is empty (NaN) or absent."""
+    return None if x is None or (isinstance(x, float) and math.isnan(x)) else float(x)
+
+
 def _part_fields(chosen: dict) -> dict:
     """part / price / currency of a chosen row (a model part carries no catalog id)."""
     return {"part": None if chosen["source"] == MODEL_SOURCE else chosen["part"],
@@ -129,11 +135,15 @@ def _capacitor(design: Design, rail: Rail, cases, pool: Pool, rules: RatingRules
     need_v = peak * (1.0 + rules.voltage_margin)
     freq = float(ripple_fundamental_hz(design.mains.frequency_hz, design.rectifier.arrangement))
     k = float(ripple_factor(design.mains.frequency_hz, design.rectifier.arrangement, rules))
-    picks = choose_capacitors(pool.capacitor, cap.capacitance_f, need_v, ripple, k)
+    ambient = design.ambient_c(design.rail_index(rail.name))
+    min_life = design.chassis.min_life_h
+    picks = choose_capacitors(pool.capacitor, cap.capacitance_f, need_v, ripple, k,
+                              ambient_c=ambient, min_life_h=min_life)
     stress = (f"{format_si(peak, 'V')} peak at {_words(peak_case)}, "
               f"+{100 * rules.voltage_margin:g} % margin = {format_si(need_v, 'V')}; "
               f"ripple {format_si(ripple, 'A')} rms ({format_si(freq, 'Hz')}) "
-              f"at {_words(ripple_case)}")
+              f"at {_words(ripple_case)}, in {ambient:g} degC air"
+              + (f"; life at least {min_life:g} h" if min_life is not None else ""))
     if not picks.found[0]:
         v, i = cap.voltage_rating_v, cap.ripple_rating_a
         own = (f"{format_si(v, 'V')}, {format_si(i, 'A')} at {format_si(RATING_HZ, 'Hz')}"
@@ -143,7 +153,7 @@ def _capacitor(design: Design, rail: Rail, cases, pool: Pool, rules: RatingRules
     derate = "" if k == 1.0 else f" x {k:g} at {format_si(freq, 'Hz')}"
     new = replace(cap, capacitance_f=c["capacitance_f"], esr_ohm=c["esr_ohm"],
                   voltage_rating_v=c["voltage_rating_v"], ripple_rating_a=c["ripple_rating_a"],
-                  **_part_fields(c))
+                  **{k: _number(c.get(k)) for k in CAPACITOR_HEAT_KEYS}, **_part_fields(c))
     return new, (f"{format_si(c['voltage_rating_v'], 'V')} part {_label(c)}: {stress}, "
                  f"rated {format_si(c['ripple_rating_a'], 'A')} at "
                  f"{format_si(RATING_HZ, 'Hz')}{derate}")
@@ -202,14 +212,17 @@ def _resistor(design: Design, rail: Rail, cases, pool: Pool, rules: RatingRules)
     power, case = _worst(cases, rail.name, "link_power_w")
     volts = max(resistor_voltage(design, rail, f) for f in cases)
     need_w = rules.power_factor * power
-    picks = choose_resistors(pool.resistor, link.resistance_ohm, need_w, volts)
+    ambient = design.ambient_c(design.rail_index(rail.name))
+    picks = choose_resistors(pool.resistor, link.resistance_ohm, need_w, volts,
+                             dissipation_w=power, ambient_c=ambient)
     stress = (f"{rules.power_factor:g} x {format_si(power, 'W')} dissipated at {_words(case)} "
               f"= {format_si(need_w, 'W')}; up to {format_si(volts, 'V')} across")
     if not picks.found[0]:  # a design's resistor states no voltage limit: never kept
         return _not_found(link, f"{format_si(link.resistance_ohm, 'Ω')} resistor class",
                           stress, None)
     c = row(pool.resistor, int(picks.index[0]))
-    new = replace(link, power_w=c["power_w"], **_part_fields(c))
+    new = replace(link, power_w=c["power_w"],
+                  upper_temperature_c=_number(c.get("upper_temperature_c")), **_part_fields(c))
     return new, (f"{format_si(c['power_w'], 'W')} part {_label(c)}: {stress}, "
                  f"limit {format_si(c['max_voltage_v'], 'V')}")
 

@@ -84,6 +84,8 @@ class SynthResult:
     objectives: tuple[str, ...] = OBJECTIVES
     archive_feasible: int = 0
     extra: dict = field(default_factory=dict)
+    # the cheapest candidate left out for heat and life alone (synth.exclusion), or None
+    heat_exclusion: dict | None = None
 
 
 def notation(design: Design) -> str:
@@ -106,13 +108,27 @@ def _verify(space: SearchSpace, X: np.ndarray, steps: int):
     so the reported figures are those of the written file."""
     dec = decode(space, X)
     caprow, _ = choose_capacitors(space, dec)
-    placeholder = {"capacitor": caprow,
-                   "resistor_class": np.full(caprow.shape,
-                                             int(np.argmax(space.resistor_classes["power_w"])))}
-    designs = [readable(to_design(space, dec, j, placeholder)) for j in range(len(X))]
-    full = evaluate_arrays(designs, steps=steps)
-    idle = evaluate_arrays(designs, IDLE, steps=steps)
-    verified = score(space, dec, caprow, full, idle)
+    cls = np.full(caprow.shape, int(np.argmax(space.resistor_classes["power_w"])))
+
+    def solve(rows, caps):
+        designs = [readable(to_design(space, dec, j, {"capacitor": caps,
+                                                      "resistor_class": cls})) for j in rows]
+        return evaluate_arrays(designs, steps=steps), evaluate_arrays(designs, IDLE, steps=steps)
+
+    full, idle = solve(range(len(X)), caprow)
+    # score() may choose another capacitor for the ripple current found (its rating or
+    # life at the air temperature); such rows are solved again with it, twice at most
+    for _ in range(2):
+        chosen = score(space, dec, caprow, full, idle).capacitor
+        again = np.flatnonzero(np.any(chosen != caprow, axis=1))
+        if not again.size:
+            break
+        caprow = chosen
+        sub_full, sub_idle = solve(again, caprow)
+        for whole, part in ((full, sub_full), (idle, sub_idle)):
+            for name in whole.__dataclass_fields__:
+                getattr(whole, name)[again] = getattr(part, name)
+    verified = score(space, dec, caprow, full, idle, choose=False)
     designs = [readable(to_design(space, dec, j, verified.parts())) for j in range(len(X))]
     return dec, verified, designs, full, idle
 
@@ -241,6 +257,13 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
                          if c.feasible and any(c is d for d in on_front)]
     result.picks = _picks(on_front)
     result.comparison = _comparison(ok)
+    if space.n_var > 0:
+        from .exclusion import heat_exclusion
+
+        ev = problem.evaluated
+        result.heat_exclusion = heat_exclusion(space, ev.X, ev.G, ev.base_cost,
+                                               ev.base_heat_fail, ev.names, on_front[0].cost,
+                                               space.currency)
     return result
 
 

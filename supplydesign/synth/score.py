@@ -21,7 +21,14 @@ searched on.
 Constraints are columns of G, feasible where <= 0, each named for explanations.
 Part ratings follow common practice: a capacitor rated for the no-load voltage at
 high mains plus ``CAP_VOLTAGE_MARGIN``; a resistor of at least twice its
-dissipation (``RESISTOR_POWER_FACTOR``).
+dissipation (``RESISTOR_POWER_FACTOR``). At the air temperature of each rail
+(``[chassis] ambient``, a rail's ``ambient``): a capacitor's ripple current within
+its rating derated there, a resistor's dissipation within its power derated from
+70 degC (IEC 60115-1), the HT winding's rms within its rating
+(:mod:`supplydesign.parts.derating`), and with ``[chassis] min_life`` every chosen
+electrolytic's estimated life at least that. After the solve, every open
+capacitor is the cheapest part of its capacitance that meets these for the ripple
+current found (the solve used the cheapest part for the voltage alone).
 """
 
 from __future__ import annotations
@@ -30,6 +37,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..parts import derating
 from ..parts.pricing import rectifier_pieces
 from ..parts.rating import RULES
 from ..parts.rating import choose_capacitors as cheapest_capacitors
@@ -38,7 +46,7 @@ from .space import KIND_CHOKE, KIND_RESISTOR, KIND_WIRE, Decoded, SearchSpace
 
 OBJECTIVES = ("hum_db", "regulation_pct", "peak", "cost")
 #: reported beside the objectives, not searched on
-COLUMNS = ("hum_margin_db",)
+COLUMNS = ("hum_margin_db", "shortest_life_h")
 #: margin of a capacitor's voltage rating over the no-load crest at high mains
 CAP_VOLTAGE_MARGIN = RULES.voltage_margin
 #: resistor power rating over its dissipation [practice: "twice the dissipation"]
@@ -85,6 +93,10 @@ class Scores:
     resistor_class: np.ndarray  # (n, R) row of space.resistor_classes, -1 where none
     capacitor: np.ndarray  # (n, R) row of space.capacitors, -1 where not open
     columns: dict[str, np.ndarray]  # COLUMNS -> (n,)
+    # the same candidates with the capacitors they were solved with (the cheapest for the
+    # voltage): their cost, and whether those parts miss a heat or life constraint
+    base_cost: np.ndarray | None = None  # (n,)
+    base_heat_fail: np.ndarray | None = None  # (n,) bool
 
     @property
     def feasible(self) -> np.ndarray:
@@ -103,9 +115,14 @@ def _ratio(x: np.ndarray, limit) -> np.ndarray:
     return np.where(np.isfinite(limit) & (limit > 0) & np.isfinite(x), r, -1.0)
 
 
-def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> Scores:
+def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle,
+          choose: bool = True) -> Scores:
     """Objectives and constraints of a population from its full-load and idle figures
-    (:class:`~supplydesign.evaluation.analysis.FigureArrays` or anything with the same arrays)."""
+    (:class:`~supplydesign.evaluation.analysis.FigureArrays` or anything with the same arrays).
+
+    ``caprow`` holds the capacitor parts the figures were solved with; ``choose``
+    lets each open capacitor become the cheapest part adequate for the ripple current
+    found (see the module notes), False scores exactly those parts."""
     brief = space.brief
     n, R = dec.kind.shape
     cols: list[np.ndarray] = []
@@ -118,6 +135,12 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
     cost = np.zeros(n)
     rc = space.resistor_classes
     res_class = np.full((n, R), -1)
+    solved_rows = caprow
+    caprow = caprow.copy()
+    lives = np.full((n, R), np.nan)
+    min_life = brief.chassis.min_life_h
+    dearer = np.zeros(n)  # price of the chosen capacitors over the solved ones
+    base_fail = np.zeros(n, dtype=bool)
     hum_ratios = []
     for i, rail in enumerate(brief.rails):
         label = f'rail "{rail.name}"'
@@ -127,35 +150,64 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
         if rail.hum_v is not None:
             add(f"{label} hum", ripple / rail.hum_v - 1.0)
             hum_ratios.append(ripple / rail.hum_v)
-        # capacitor: voltage (no-load crest at high mains plus margin) and ripple current
+        # capacitor: voltage (no-load crest at high mains plus margin), ripple current at
+        # the rail's air temperature and, asked for, life
         rs = space.rails[i]
         v_need = no_load_crest_v(space, dec) * (1.0 + CAP_VOLTAGE_MARGIN)
+        ta = brief.ambient_c(i)
+        ripple_a = full.cap_ripple_rms_a[:, i]
         if rs.cap_open:
-            row = caprow[:, i]
             cp = space.capacitors
+            if choose:
+                picks = cheapest_capacitors(cp, dec.capacitance[:, i], v_need, ripple_a,
+                                            ambient_c=ta, min_life_h=min_life)
+                caprow[:, i] = np.where(picks.found, picks.index, caprow[:, i])
+            row = caprow[:, i]
+            part = {k: cp[k][row] for k in HEAT_KEYS}
+            base = solved_rows[:, i]
+            dearer += cp["price"][row] - cp["price"][base]
+            base_fail |= _heat_misses({k: cp[k][base] for k in HEAT_KEYS}, ripple_a, ta,
+                                      min_life)
             add(f"{label} capacitor voltage", _ratio(v_need, cp["voltage_rating_v"][row]))
-            add(f"{label} capacitor ripple current",
-                _ratio(full.cap_ripple_rms_a[:, i], cp["ripple_rating_a"][row]))
             cost += cp["price"][row]
         elif rail.capacitor is not None:
+            part = {k: np.nan if getattr(rail.capacitor, k) is None
+                    else getattr(rail.capacitor, k) for k in HEAT_KEYS}
             cap = rail.capacitor
             add(f"{label} capacitor voltage",
                 _ratio(v_need, np.nan if cap.voltage_rating_v is None else cap.voltage_rating_v))
-            add(f"{label} capacitor ripple current",
-                _ratio(full.cap_ripple_rms_a[:, i],
-                       np.nan if cap.ripple_rating_a is None else cap.ripple_rating_a))
             cost += cap.price or 0.0
+        if rail.capacitor is not None:
+            add(f"{label} capacitor ripple current",
+                _ratio(ripple_a, part["ripple_rating_a"]
+                       * derating.ripple_derating(ta, part["rated_temperature_c"])))
+            _, _, lives[:, i] = derating.capacitor_heat(
+                ripple_a, part["esr_ohm"], part["diameter_m"], part["height_m"],
+                part["rated_life_h"], part["rated_temperature_c"], ta)
+            if min_life is not None:
+                # a chosen part without life data cannot show its life: not met; a part
+                # the brief fixes without them is left unchecked
+                unknown = 1.0 if rs.cap_open else -1.0
+                with np.errstate(divide="ignore"):
+                    add(f"{label} capacitor life",
+                        np.where(np.isfinite(lives[:, i]), min_life / lives[:, i] - 1.0,
+                                 unknown))
         # link: resistor power class, choke current
         kind = dec.kind[:, i]
         if rs.fixed_link is None:
-            p_need = RESISTOR_POWER_FACTOR * full.link_power_w[:, i]
+            dissipation = full.link_power_w[:, i]
+            p_need = RESISTOR_POWER_FACTOR * dissipation
             v_drop = np.abs(full.link_dc_a[:, i]) * dec.resistance[:, i]
-            picks = cheapest_resistors(rc, dec.resistance[:, i], p_need, v_drop)
+            picks = cheapest_resistors(rc, dec.resistance[:, i], p_need, v_drop,
+                                       dissipation_w=dissipation, ambient_c=ta)
             cls = np.where(picks.found, picks.index, int(np.argmax(rc["power_w"])))
             is_r = kind == KIND_RESISTOR
             res_class[:, i] = np.where(is_r, cls, -1)
             # no adequate class (power, voltage or value range): violated at least by 0.1
-            need = _ratio(p_need, rc["power_w"][cls])
+            upper = rc.get("upper_temperature_c", np.full(len(rc["power_w"]), np.nan))[cls]
+            need = np.fmax(_ratio(p_need, rc["power_w"][cls]),
+                           _ratio(dissipation, rc["power_w"][cls]
+                                  * derating.resistor_derating(ta, upper)))
             add(f"{label} resistor rating",
                 np.where(is_r, np.where(picks.found, need, np.maximum(need, 0.1)), -1.0))
             is_l = kind == KIND_CHOKE
@@ -168,9 +220,13 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
         else:
             link = rs.fixed_link
             if link.kind == "resistor":
+                rated = np.nan if link.power_w is None else link.power_w
+                upper = (np.nan if link.upper_temperature_c is None
+                         else link.upper_temperature_c)
                 add(f"{label} resistor rating",
-                    _ratio(RESISTOR_POWER_FACTOR * full.link_power_w[:, i],
-                           np.nan if link.power_w is None else link.power_w))
+                    np.fmax(_ratio(RESISTOR_POWER_FACTOR * full.link_power_w[:, i], rated),
+                            _ratio(full.link_power_w[:, i],
+                                   rated * derating.resistor_derating(ta, upper))))
             elif link.kind == "choke":
                 add(f"{label} choke current",
                     _ratio(np.abs(full.link_dc_a[:, i]),
@@ -183,6 +239,8 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
     total_a = np.sum(full.load_a, axis=1)
     add("transformer DC current",
         _ratio(total_a, np.array([t.rated_current_a or np.nan for t in tr])[dec.transformer]))
+    add("transformer rms current",
+        _ratio(full.winding_rms_a, winding_rms_ratings(space)[dec.transformer, dec.rectifier]))
     max_peak = np.array([r.max_peak_current_a or np.nan for r in rect])[dec.rectifier]
     add("rectifier peak current", _ratio(full.rect_peak_a, max_peak))
     first_cap = dec.capacitance[:, 0] if brief.rails[0].capacitor is not None else np.zeros(n)
@@ -220,8 +278,48 @@ def score(space: SearchSpace, dec: Decoded, caprow: np.ndarray, full, idle) -> S
     F = np.stack([hum_db, reg, peak, cost], axis=1)
     # an unconverged steady state is never feasible
     add("solver convergence", np.where(full.converged & idle.converged, -1.0, 1.0))
+    with np.errstate(invalid="ignore"):
+        shortest = np.min(np.where(np.isnan(lives), np.inf, lives), axis=1)
     return Scores(F, np.stack(cols, axis=1), names, cost, res_class, caprow,
-                  {"hum_margin_db": margin_db})
+                  {"hum_margin_db": margin_db,
+                   "shortest_life_h": np.where(np.isinf(shortest), np.nan, shortest)},
+                  base_cost=cost - dearer, base_heat_fail=base_fail)
+
+
+def _heat_misses(part: dict, ripple_a, ambient_c: float, min_life) -> np.ndarray:
+    """Whether capacitors (``HEAT_KEYS`` arrays) miss their ripple rating at the air
+    temperature or, asked for, the least life, with this ripple current."""
+    allowed = part["ripple_rating_a"] * derating.ripple_derating(
+        ambient_c, part["rated_temperature_c"])
+    miss = ripple_a > allowed  # NaN (no rating) compares False
+    if min_life is not None:
+        _, _, life = derating.capacitor_heat(
+            ripple_a, part["esr_ohm"], part["diameter_m"], part["height_m"],
+            part["rated_life_h"], part["rated_temperature_c"], ambient_c)
+        miss |= ~(life >= min_life)
+    return miss
+
+
+#: the capacitor data the heat and life rules read
+HEAT_KEYS = ("ripple_rating_a", "esr_ohm", "diameter_m", "height_m", "rated_life_h",
+             "rated_temperature_c")
+
+
+def winding_rms_ratings(space: SearchSpace) -> np.ndarray:
+    """Rms rating per half of each transformer fed into each rectifier [A], (T, Rr):
+    an rms or VA rating as given, a DC rating with the form factor it assumes for
+    the rectifier's arrangement (:func:`supplydesign.parts.derating.winding_rms_rating`);
+    NaN where none is given."""
+    out = np.full((len(space.transformers), len(space.rectifiers)), np.nan)
+    for t, tr in enumerate(space.transformers):
+        for r, rect in enumerate(space.rectifiers):
+            value, _ = derating.winding_rms_rating(
+                *(np.nan if x is None else x for x in (tr.rated_rms_a, tr.rated_va,
+                                                        tr.open_circuit_v)),
+                tr.winding, np.nan if tr.rated_current_a is None else tr.rated_current_a,
+                tr.rated_for, rect.arrangement)
+            out[t, r] = float(np.asarray(value).ravel()[0])
+    return out
 
 
 def hum_objective(ratios: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -80,8 +80,10 @@ def _resolve_transformers(brief: Design, catalog) -> list[Transformer]:
         return [tr]
     out = []
     for pid in dict.fromkeys(tr.choose):  # a part listed twice is one choice
+        # the amplifier's other load (heaters, bias) is the brief's, whichever is chosen
         out.append(Transformer(**{k: v for k, v in catalog.get("transformer", pid).items()
-                                  if k in Transformer.__dataclass_fields__}))
+                                  if k in Transformer.__dataclass_fields__},
+                               other_load_va=tr.other_load_va))
     return out
 
 
@@ -230,6 +232,18 @@ def _catalog_id(table: dict, row: int) -> str | None:
     return None if str(table["source"][row]) == "model" else str(table["part"][row])
 
 
+#: a capacitor's data for heat and life, carried from the candidate table into a design
+CAPACITOR_HEAT_KEYS = ("rated_life_h", "rated_temperature_c", "diameter_m", "height_m")
+
+
+def _optional(table: dict, key: str, row: int) -> float | None:
+    """A number of a candidate table's row, None where the column is absent or empty."""
+    if key not in table:
+        return None
+    value = float(table[key][row])
+    return None if np.isnan(value) else value
+
+
 def to_design(space: SearchSpace, dec: Decoded, row: int, parts: dict) -> Design:
     """The complete Design of population row ``row``; ``parts`` holds the chosen
     capacitor rows, resistor classes and prices from :mod:`score` (per rail arrays)."""
@@ -245,7 +259,9 @@ def to_design(space: SearchSpace, dec: Decoded, row: int, parts: dict) -> Design
             cls = int(parts["resistor_class"][row, i])
             rc = space.resistor_classes
             link = Link("resistor", resistance_ohm=float(dec.resistance[row, i]),
-                        power_w=float(rc["power_w"][cls]), part=_catalog_id(rc, cls),
+                        power_w=float(rc["power_w"][cls]),
+                        upper_temperature_c=_optional(rc, "upper_temperature_c", cls),
+                        part=_catalog_id(rc, cls),
                         price=float(rc["price"][cls]), currency=space.currency)
         else:
             ch = space.chokes
@@ -263,6 +279,7 @@ def to_design(space: SearchSpace, dec: Decoded, row: int, parts: dict) -> Design
                             esr_ohm=float(cp["esr_ohm"][j]),
                             voltage_rating_v=float(cp["voltage_rating_v"][j]),
                             ripple_rating_a=float(cp["ripple_rating_a"][j]),
+                            **{k: _optional(cp, k, j) for k in CAPACITOR_HEAT_KEYS},
                             part=_catalog_id(cp, j), price=float(cp["price"][j]),
                             currency=space.currency)
         rails.append(replace(rail, link=link, capacitor=cap))
