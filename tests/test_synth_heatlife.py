@@ -7,11 +7,13 @@ any value of them.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 import pytest
 
+from supplydesign.design import Transformer
 from supplydesign.evaluation.analysis import evaluate_arrays
 from supplydesign.evaluation.heatlife import heat_life
 from supplydesign.io.designfile import load_design
@@ -118,7 +120,12 @@ def test_winding_rms_rating_per_transformer_and_rectifier(tmp_path_factory, cata
     space = build_space(_hot_brief(tmp_path_factory, catalog), catalog)
     ratings = winding_rms_ratings(space)
     parts = [t.part for t in space.transformers]
-    # TRF-CT-2X300-150 states 200 mA rms; TRF-CT-2X350-200 only 200 mA DC for a capacitor
-    # input: 200 mA x 1.2247 (the form factor the rule assumes) for every rectifier
+    # TRF-CT-2X300-150 states 200 mA rms, TRF-CT-2X350-200 260 mA rms (both beside a DC
+    # rating, which then does not count)
     np.testing.assert_allclose(ratings[parts.index("TRF-CT-2X300-150")], 0.2)
-    np.testing.assert_allclose(ratings[parts.index("TRF-CT-2X350-200")], 0.2 * np.sqrt(6) / 2)
+    np.testing.assert_allclose(ratings[parts.index("TRF-CT-2X350-200")], 0.26)
+    # a DC rating alone for a capacitor input: 250 mA x 1.2247 (the form factor the rule
+    # assumes) for every rectifier
+    space = build_space(replace(space.brief, transformer=Transformer(
+        choose=("TRF-CT-2X380-250",))), catalog)
+    np.testing.assert_allclose(winding_rms_ratings(space), 0.25 * np.sqrt(6) / 2)
