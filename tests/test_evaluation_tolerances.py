@@ -162,3 +162,26 @@ def test_builds_carry_their_multipliers_and_the_mains_in_the_winding(sources):
         assert own[b].rails[3].capacitor.capacitance_f == pytest.approx(
             39e-6 * m[b, col["input capacitor"]])
         assert own[b].rails[0].current_a == design.rails[0].current_a  # loads stay
+
+
+def test_builds_equal_the_designs_dataclasses_replace_makes(sources):
+    from dataclasses import replace
+
+    design, _ = sources
+    fs = factors(design, load_catalog())
+    m = multipliers(fs, unit_sample(len(fs), 3, 4))
+    col = {f.target: j for j, f in enumerate(fs)}
+    for b, built in enumerate(build_designs(design, fs, m)):
+        tr = design.transformer
+        rails = []
+        for i, r in enumerate(design.rails):
+            link = {k: getattr(r.link, k) * m[b, col[("link", i, k)]]
+                    for k in ("resistance_ohm", "inductance_h") if ("link", i, k) in col}
+            c_f = r.capacitor.capacitance_f * m[b, col[("capacitor", i)]]
+            rails.append(replace(r, link=replace(r.link, **link),
+                                 capacitor=replace(r.capacitor, capacitance_f=c_f)))
+        expected = replace(design, rails=tuple(rails), transformer=replace(
+            tr, open_circuit_v=tr.open_circuit_v * m[b, 0] * m[b, 1],
+            resistance_ohm=tr.resistance_ohm * m[b, 2]), rectifier=replace(
+            design.rectifier, drop_v=design.rectifier.drop_v * m[b, 3]))
+        assert built == expected and hash(built) == hash(expected)

@@ -50,7 +50,7 @@ from __future__ import annotations
 
 import inspect
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -268,17 +268,32 @@ def build_designs(design: Design, fs: Sequence[Factor], m: np.ndarray,
                 if (col := _column(fs, m, ("link", i, field))) is not None}
         cap = _column(fs, m, ("capacitor", i))
         rail_cols.append((link, None if cap is None else r.capacitor.capacitance_f * cap))
+    # the columns as lists of floats, and a cheap copy of each frozen dataclass: a build
+    # is a handful of field changes, and dataclasses.replace (which runs __init__ over
+    # every field) was a fifth of a synthesis' yield pass
+    oc, rw = oc.tolist(), rw.tolist()
+    rect_cols = {k: v.tolist() for k, v in rect_cols.items()}
+    rail_cols = [({k: v.tolist() for k, v in link.items()}, None if cap is None else cap.tolist())
+                 for link, cap in rail_cols]
     out = []
     for b in range(n):
-        rails = []
-        for r, (link, cap) in zip(design.rails, rail_cols, strict=True):
-            rails.append(replace(
-                r, link=replace(r.link, **{k: float(v[b]) for k, v in link.items()}),
-                capacitor=r.capacitor if cap is None else replace(r.capacitor,
-                                                                  capacitance_f=float(cap[b]))))
-        out.append(replace(design, transformer=replace(tr, open_circuit_v=float(oc[b]),
-                                                       resistance_ohm=float(rw[b])),
-                           rectifier=replace(rect, **{k: float(v[b])
-                                                      for k, v in rect_cols.items()}),
-                           rails=tuple(rails)))
+        rails = tuple(
+            _changed(r, link=_changed(r.link, **{k: v[b] for k, v in link.items()}),
+                     capacitor=r.capacitor if cap is None else _changed(r.capacitor,
+                                                                        capacitance_f=cap[b]))
+            for r, (link, cap) in zip(design.rails, rail_cols, strict=True))
+        out.append(_changed(design, transformer=_changed(tr, open_circuit_v=oc[b],
+                                                         resistance_ohm=rw[b]),
+                            rectifier=_changed(rect, **{k: v[b] for k, v in rect_cols.items()}),
+                            rails=rails))
     return out
+
+
+def _changed(obj, **fields):
+    """A copy of the frozen dataclass ``obj`` with ``fields`` changed, as
+    ``dataclasses.replace`` makes it (the design classes have no ``__post_init__``) but
+    without running ``__init__``."""
+    new = object.__new__(type(obj))
+    new.__dict__.update(obj.__dict__)
+    new.__dict__.update(fields)
+    return new
