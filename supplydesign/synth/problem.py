@@ -22,7 +22,7 @@ from ..circuit.netlist import (
     topology_of,
 )
 from ..circuit.statespace import build_state_space
-from ..circuit.steady import periodic_steady_state
+from ..circuit.steady import periodic_steady_states
 from ..evaluation.analysis import FigureArrays, Solved, figure_arrays, stack_rows
 from .score import OBJECTIVES, Scores, choose_capacitors, score
 from .space import (
@@ -103,12 +103,14 @@ def evaluate_population(space: SearchSpace, X: np.ndarray,
     key = np.column_stack([pair_sig[dec.transformer, dec.rectifier], wires.astype(int)])
     uniq, group = np.unique(key, axis=0, return_inverse=True)
     full_parts, idle_parts = [], []
-    for g, row_key in enumerate(uniq):
-        rows = np.flatnonzero(group.ravel() == g)
-        w = tuple(bool(x) for x in row_key[1:])
-        circuit = _group_circuit(space, dec, esr, rows, w)
-        steady = periodic_steady_state(build_state_space(circuit), steps=steps,
-                                       max_iter=SEARCH_ITERATIONS, fallback_periods=0)
+    members = [np.flatnonzero(group.ravel() == g) for g in range(len(uniq))]
+    circuits = [_group_circuit(space, dec, esr, rows, tuple(bool(x) for x in row_key[1:]))
+                for rows, row_key in zip(members, uniq, strict=True)]
+    # every search topology in one call: those of one junction law and arrangement are
+    # stepped as one batch
+    steadies = periodic_steady_states([build_state_space(c) for c in circuits], steps=steps,
+                                      max_iter=SEARCH_ITERATIONS, fallback_periods=0)
+    for rows, circuit, steady in zip(members, circuits, steadies, strict=True):
         fa = figure_arrays(Solved(circuit, steady))
         m = len(rows)
         half = {k: getattr(fa, k) for k in fa.__dataclass_fields__}
