@@ -20,6 +20,9 @@ def add_parsers(sub) -> None:
                     help="solver steps per mains period, at least (a fast charging loop gets more)")
     ev.add_argument("--force", action="store_true", help="overwrite existing output files")
     ev.add_argument("--quiet", action="store_true", help="no console report")
+    ev.add_argument("--details", action="store_true",
+                    help="the full tables of every design also when there are more than "
+                         "three (otherwise a summary of one row per design)")
     ev.add_argument("--nominal-only", action="store_true",
                     help="skip the worst cases, switch-on and discharge (faster)")
     cli_export.add_evaluate_options(ev)
@@ -65,13 +68,20 @@ def cmd_evaluate(args) -> int:
 
         from ..report import heatlife as heat_report
         from ..report.console import render_evaluation
+        from ..report.summary_console import SUMMARY_ABOVE, render_summary
         from ..report.worstcase_console import render_worst_cases
 
         console = Console()
-        for b, (d, f, i) in enumerate(zip(designs, full, idle, strict=True)):
-            worst = None if wc is None else partial(render_worst_cases, wc=wc, b=b)
-            heat = partial(heat_report.render, design=d, hl=hl, b=b, fs=fs)
-            render_evaluation(console, d, f, i, worst=worst, heat=heat)
+        if len(designs) > SUMMARY_ABOVE and not args.details:
+            from ..evaluation.stress import checks
+
+            render_summary(console, designs, full,
+                           None if wc is None else partial(checks, wc))
+        else:
+            for b, (d, f, i) in enumerate(zip(designs, full, idle, strict=True)):
+                worst = None if wc is None else partial(render_worst_cases, wc=wc, b=b)
+                heat = partial(heat_report.render, design=d, hl=hl, b=b, fs=fs)
+                render_evaluation(console, d, f, i, worst=worst, heat=heat)
     if args.json:
         from ..report.heatlife import heat_life_json
         from ..report.worstcase_json import worst_case_json

@@ -53,6 +53,44 @@ def rails_sheet(design: Design, full: Figures, idle: Figures | None):
     return sheet
 
 
+def stress_rows(design: Design, full: Figures) -> list[tuple]:
+    """The nominal-case stress rows of a design: (part, stress, used, rating, unit) for a
+    stress with a rating (rating None where the design gives none), (part, stress, text)
+    for a figure shown as it is."""
+    rect = design.rectifier
+    rows: list[tuple] = [
+        ("rectifier", "peak current per anode/diode", full.rectifier.peak_a,
+         rect.max_peak_current_a, "A"),
+        ("", "rms / average per anode/diode",
+         f"{format_si(full.rectifier.rms_a, 'A')} / {format_si(full.rectifier.avg_a, 'A')}"),
+        ("", "dissipation per anode/diode", format_si(full.rectifier.power_w, "W"))]
+    first_cap = design.rails[0].capacitor
+    if rect.max_reservoir_f is not None and first_cap is not None \
+            and first_cap.capacitance_f is not None:
+        rows.append(("", "reservoir capacitance", first_cap.capacitance_f, rect.max_reservoir_f,
+                     "F"))
+    rows += [("transformer", "DC load current", sum(r.load_a for r in full.rails),
+              design.transformer.rated_current_a, "A"),
+             ("", "rms current per half-winding", format_si(full.transformer.rms_a, "A")),
+             ("", "copper loss", format_si(full.transformer.power_w, "W"))]
+    for rail, fig in zip(design.rails, full.rails, strict=True):
+        link = rail.link
+        if link.kind == "resistor":
+            rows.append((f"{rail.name}: {format_si(link.resistance_ohm, 'Ω')}",
+                         "resistor dissipation", fig.link_power_w, link.power_w, "W"))
+        elif link.kind == "choke":
+            rows.append((f"{rail.name}: {format_si(link.inductance_h, 'H')}", "choke DC current",
+                         abs(fig.link_dc_a), link.current_rating_a, "A"))
+        cap = rail.capacitor
+        if cap is not None:
+            rows.append((f"{rail.name}: {format_si(cap.capacitance_f, 'F')}",
+                         "capacitor: highest voltage (nominal)", fig.peak_v,
+                         cap.voltage_rating_v, "V"))
+            rows.append(("", "ripple current rms", fig.cap_ripple_rms_a or 0.0,
+                         cap.ripple_rating_a, "A"))
+    return rows
+
+
 def stresses_sheet(design: Design, full: Figures):
     """Every part's stress in the nominal case against its rating."""
     from .layout import Column, Sheet
@@ -60,38 +98,8 @@ def stresses_sheet(design: Design, full: Figures):
     sheet = Sheet("Part stresses (nominal case)", [
         Column("part", "left", key=True), Column("stress", "left", text=True),
         Column("used against rating", "left")])
-    t = sheet
-    rect = design.rectifier
-    t.add_row("rectifier", "peak current per anode/diode",
-              _ratio_cell(full.rectifier.peak_a, rect.max_peak_current_a, "A"))
-    t.add_row("", "rms / average per anode/diode",
-              f"{format_si(full.rectifier.rms_a, 'A')} / {format_si(full.rectifier.avg_a, 'A')}")
-    t.add_row("", "dissipation per anode/diode", format_si(full.rectifier.power_w, "W"))
-    first_cap = design.rails[0].capacitor
-    if rect.max_reservoir_f is not None and first_cap is not None \
-            and first_cap.capacitance_f is not None:
-        t.add_row("", "reservoir capacitance",
-                  _ratio_cell(first_cap.capacitance_f, rect.max_reservoir_f, "F"))
-    total_dc = sum(r.load_a for r in full.rails)
-    t.add_row("transformer", "DC load current",
-              _ratio_cell(total_dc, design.transformer.rated_current_a, "A"))
-    t.add_row("", "rms current per half-winding", format_si(full.transformer.rms_a, "A"))
-    t.add_row("", "copper loss", format_si(full.transformer.power_w, "W"))
-    for rail, fig in zip(design.rails, full.rails, strict=True):
-        link = rail.link
-        if link.kind == "resistor":
-            t.add_row(f"{rail.name}: {format_si(link.resistance_ohm, 'Ω')}",
-                      "resistor dissipation", _ratio_cell(fig.link_power_w, link.power_w, "W"))
-        elif link.kind == "choke":
-            t.add_row(f"{rail.name}: {format_si(link.inductance_h, 'H')}", "choke DC current",
-                      _ratio_cell(abs(fig.link_dc_a), link.current_rating_a, "A"))
-        cap = rail.capacitor
-        if cap is not None:
-            name = f"{rail.name}: {format_si(cap.capacitance_f, 'F')}"
-            t.add_row(name, "capacitor: highest voltage (nominal)",
-                      _ratio_cell(fig.peak_v, cap.voltage_rating_v, "V"))
-            t.add_row("", "ripple current rms",
-                      _ratio_cell(fig.cap_ripple_rms_a or 0.0, cap.ripple_rating_a, "A"))
+    for row in stress_rows(design, full):
+        sheet.add_row(row[0], row[1], row[2] if len(row) == 3 else _ratio_cell(*row[2:]))
     return sheet
 
 
