@@ -60,6 +60,22 @@ def test_evaluate_console_shows_heat_life_and_fuses_at_80_columns(capsys, monkey
     assert re.search(r"\d[\d ]* h, (>15|\d+\.\d) y", out)  # a life in hours and years
 
 
+def test_many_designs_get_a_summary_and_their_tables_with_details(capsys, monkeypatch):
+    """Past three designs one row each (at 80 columns), every table with --details."""
+    monkeypatch.setenv("COLUMNS", "80")
+    files = [*map(str, EXAMPLES), str(EXAMPLES[0])]
+    assert len(files) > 3
+    assert main(["evaluate", *files, "--nominal-only"]) == 0
+    out = capsys.readouterr().out
+    assert max(len(line) for line in out.splitlines()) <= 80
+    assert f"{len(files)} designs" in out and "Part stresses" not in out
+    assert out.count(EXAMPLES[0].name) >= 2 and "--details" in out
+    assert out.count("lethal") == 1  # the cautions once, after the summary
+    assert main(["evaluate", *files, "--nominal-only", "--details"]) == 0
+    out = capsys.readouterr().out
+    assert out.count("Part stresses") == len(files)
+
+
 def test_existing_output_is_not_overwritten_without_force(tmp_path, capsys):
     out = tmp_path / "figs.json"
     out.write_text("keep me")
