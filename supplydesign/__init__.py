@@ -20,7 +20,18 @@ HT supplies carry lethal voltages; no figure of this package makes a design safe
 
 from __future__ import annotations
 
+import os as _os
+
 __version__ = "0.1.0"
+
+# The solver multiplies many small matrices in batches; a BLAS thread pool gains nothing
+# there and, on a machine whose cores are busy, its waiting threads made the search
+# three to four times slower (measured: a 3000-candidate search took 50 s of CPU with
+# OpenBLAS's default threads, 13 s with one). One thread per process, unless the
+# environment says otherwise; it takes effect when numpy is first imported after this
+# package (the command line always is). Parallel work: ``--workers``.
+for _name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    _os.environ.setdefault(_name, "1")
 
 _LAZY = {
     "load_design": ("supplydesign.io.designfile", "load_design"),

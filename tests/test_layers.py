@@ -8,6 +8,7 @@ fast are imports all the same), and resolved to the module it names.
 from __future__ import annotations
 
 import ast
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -150,3 +151,17 @@ def test_public_api_names_resolve():
         assert getattr(supplydesign, name) is not None, name
     assert supplydesign.synthesize.__name__ == "synthesize"
     assert "designs" in supplydesign.SynthResult.__dataclass_fields__
+
+
+def test_one_blas_thread_unless_the_environment_says_otherwise():
+    code = ("import os, supplydesign, numpy; "
+            "print(os.environ['OPENBLAS_NUM_THREADS'], os.environ['OMP_NUM_THREADS'])")
+    env = {k: v for k, v in os.environ.items()
+           if k not in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS")}
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True,
+                         check=True).stdout.split()
+    assert out == ["1", "1"]
+    env["OPENBLAS_NUM_THREADS"] = "2"
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True,
+                         check=True).stdout.split()
+    assert out == ["2", "1"]

@@ -151,3 +151,30 @@ def test_front_gain_of_a_known_front():
     # earlier {(1, 1)}: 0.01 [derived: arithmetic]
     gain = budget.front_gain(_front([1.0, 1.0]), _front([0.0, 1.0], [1.0, 0.0]))
     assert gain == pytest.approx(1 - 0.01 / 0.21)
+
+
+def test_neighbours_are_one_step_away(demo):
+    x = seed.starting_designs(demo, seed.chain_of(demo), limit=1)
+    near = seed.neighbours(demo, x)
+    assert len(np.unique(near, axis=0)) == len(near)
+    assert (canonical(demo, near) == near).all()
+    screens = demo.rails[1]
+    changed = near != x
+    plain = ~changed[:, screens.var_kind]
+    # one variable, one step; switching the screens' link kind also sets the variables of
+    # the kind it leaves to 0 (canonical)
+    assert (changed[plain].sum(axis=1) == 1).all()
+    assert (np.abs(near - x)[plain].sum(axis=1) == 1).all()
+    assert (~plain).sum() == 1
+
+
+def test_objectives_are_compared_at_their_resolution():
+    from supplydesign.synth.score import resolved
+
+    F = np.array([[-3.1, 4.02, 0.50, 100.0],
+                  [-3.2, 4.09, 0.502, 100.4],  # within every step of the first
+                  [-3.6, 4.02, 0.50, 102.5]])  # 0.5 dB quieter, 2.5 % dearer
+    R = resolved(F)
+    assert (R[0] == R[1]).all()
+    assert R[2, 0] < R[0, 0] and R[2, 3] > R[0, 3]
+    assert len(budget.front(R)) == 2  # the two equal rows count once

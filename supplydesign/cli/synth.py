@@ -33,7 +33,7 @@ def _synth_options(sp, out_required: bool) -> None:
     sp.add_argument("--time-limit", type=float, default=None, metavar="SECONDS",
                     help="stop the search after this long (default 45 s when it runs until "
                          "the front settles; none with --generations)")
-    sp.add_argument("--population", type=int, default=48, help="candidates per generation")
+    sp.add_argument("--population", type=int, default=96, help="candidates per generation")
     sp.add_argument("--objectives", default="hum_db,regulation_pct,peak,cost",
                     help="comma-separated subset of hum_db, regulation_pct, peak, cost")
     sp.add_argument("--force", action="store_true", help="overwrite existing output files")

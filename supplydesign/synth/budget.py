@@ -49,6 +49,16 @@ def nondominated(F: np.ndarray) -> np.ndarray:
     return NonDominatedSorting().do(F, only_non_dominated_front=True)
 
 
+def front(F: np.ndarray) -> np.ndarray:
+    """Indices of the front of F (already at the search's resolution): the non-dominated
+    rows, one row for each objective vector that several share (the first)."""
+    nd = nondominated(F)
+    if len(nd) == 0:
+        return nd
+    _, first = np.unique(F[nd], axis=0, return_index=True)
+    return np.sort(nd[first])
+
+
 def front_gain(then: np.ndarray, now: np.ndarray) -> float:
     """Share of the present front's hypervolume that the earlier front lacks.
 
@@ -152,6 +162,7 @@ class Budget:
         fixed = generations is not None or evaluations is not None
         self.time_limit_s = time_limit_s if (time_limit_s or fixed) else TIME_LIMIT_S
         self.front = np.zeros((0, 0))
+        self.front_rows = np.zeros(0, dtype=int)  # rows of the archive on the front
         self.history: list[np.ndarray] = []
         self.seen = 0
         self.feasible = 0
@@ -159,14 +170,14 @@ class Budget:
     def update(self, generation: int, F: np.ndarray, feasible: np.ndarray,
                elapsed_s: float) -> Status:
         """The status after ``generation`` from the archive's objectives (only the
-        searched ones) and feasibility, all rows so far."""
-        new = slice(self.seen, len(F))
-        ok = F[new][feasible[new]]
+        searched ones, at the search's resolution) and feasibility, all rows so far."""
+        new = self.seen + np.flatnonzero(feasible[self.seen:])
         self.seen = len(F)
-        self.feasible += len(ok)
-        if len(ok):
-            both = ok if self.front.size == 0 else np.concatenate([self.front, ok])
-            self.front = both[nondominated(both)]
+        self.feasible += len(new)
+        if len(new):
+            rows = np.concatenate([self.front_rows, new])
+            self.front_rows = rows[front(F[rows])]
+            self.front = F[self.front_rows]
         self.history.append(self.front)
         gain = None
         if self.feasible and len(self.history) > SETTLE_WINDOW:

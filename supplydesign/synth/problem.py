@@ -24,7 +24,7 @@ from ..circuit.netlist import (
 from ..circuit.statespace import build_state_space
 from ..circuit.steady import periodic_steady_states
 from ..evaluation.analysis import FigureArrays, Solved, figure_arrays, stack_rows
-from .score import OBJECTIVES, Scores, choose_capacitors, score
+from .score import OBJECTIVES, Scores, choose_capacitors, resolved, score
 from .space import (
     KIND_WIRE,
     RESISTOR_AS_CHOKE_H,
@@ -201,6 +201,7 @@ def make_problem(space: SearchSpace, objectives: tuple[str, ...] = OBJECTIVES,
             self.constraint_names = probe.scores.names
             self.evaluated = Evaluated(space.n_var, probe.scores.names)
             self.objective_columns = cols
+            self.objectives = tuple(objectives)
 
         def evaluate_rows(self, X: np.ndarray) -> np.ndarray:
             """Rows of ``self.evaluated`` for canonical candidates X, solving the new ones."""
@@ -218,7 +219,8 @@ def make_problem(space: SearchSpace, objectives: tuple[str, ...] = OBJECTIVES,
 
         def _evaluate(self, X, out, *args, **kwargs):
             at = self.evaluate_rows(canonical(space, X))
-            out["F"] = self.evaluated.F[at][:, self.objective_columns]
+            out["F"] = resolved(self.evaluated.F[at][:, self.objective_columns],
+                                self.objectives)
             out["G"] = self.evaluated.G[at]
 
     return SupplyProblem()

@@ -26,9 +26,18 @@ from ..circuit.netlist import OperatingCase
 from ..design import Design
 from ..evaluation.analysis import FigureArrays, evaluate_arrays
 from ..io.tomlwrite import readable
-from .budget import nondominated as _nondominated
-from .score import OBJECTIVES, Scores, choose_capacitors, score
-from .space import KIND_CHOKE, KIND_RESISTOR, SearchSpace, build_space, decode, to_design
+from .budget import front as _front
+from .score import OBJECTIVES, Scores, choose_capacitors, resolved, score
+from .space import (
+    KIND_CHOKE,
+    KIND_RESISTOR,
+    SearchSpace,
+    build_space,
+    canonical,
+    decode,
+    rows_in,
+    to_design,
+)
 
 IDLE = OperatingCase("idle", 1.0, "idle")
 
@@ -44,7 +53,7 @@ class SynthOptions:
     """
 
     seed: int = 1
-    pop_size: int = 48
+    pop_size: int = 96
     generations: int | None = None
     workers: int = 1
     objectives: tuple[str, ...] = OBJECTIVES
@@ -235,7 +244,7 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
         result.explanation = explain(space, X_all, F_all, G_all)
         return result
     rows = np.flatnonzero(feasible) if space.n_var > 0 else np.array([0])
-    front = rows[_nondominated(F_all[rows][:, cols])]
+    front = rows[_front(resolved(F_all[rows][:, cols], opt.objectives))]
     # the choke-against-resistor comparison wants the best of both kinds, on the front
     # or not: add the cheapest feasible all-resistor and with-choke candidates
     extra = _best_of_kinds(space, X_all, F_all, rows)
@@ -249,7 +258,7 @@ def synthesize(brief: Design, catalog, options: SynthOptions | None = None,
                               "when re-evaluated accurately; try a larger search."]
         return result
     Fv = np.array([[c.objectives[o] for o in opt.objectives] for c in ok])
-    front_v = set(_nondominated(Fv).tolist())
+    front_v = set(_front(resolved(Fv, opt.objectives)).tolist())
     on_front = [c for k, c in enumerate(ok) if k in front_v]
     on_front.sort(key=lambda c: c.cost)
     result.designs = on_front
@@ -301,22 +310,26 @@ def _search(space: SearchSpace, opt: SynthOptions, cols: list[int], pool, progre
         repair=make_repair(), eliminate_duplicates=True)
     algorithm.setup(problem, termination=NoTermination(), seed=opt.seed, verbose=False)
     problem.objective_columns = cols
-    status = None
-    generation = 0
     ev = problem.evaluated
+    generation = 0
+
+    def update(reason: str = ""):
+        status = budget.update(generation, resolved(ev.F[:, cols], opt.objectives),
+                               ev.feasible, time.perf_counter() - start)
+        status.reason = reason or status.reason
+        return status
+
     try:
         while True:
             pop = algorithm.ask()
             if pop is None or len(pop) == 0:  # every offspring was evaluated before
-                status = budget.update(generation, ev.F[:, cols], ev.feasible,
-                                       time.perf_counter() - start)
-                status.reason = "exhausted"
+                status = update("exhausted")
                 break
+            _move_near_front(problem, pop, budget.front_rows, rng)
             algorithm.evaluator.eval(problem, pop, algorithm=algorithm)
             algorithm.tell(infills=pop)
             generation += 1
-            status = budget.update(generation, ev.F[:, cols], ev.feasible,
-                                   time.perf_counter() - start)
+            status = update()
             if progress is not None:
                 progress(status)
             if status.done:
@@ -324,10 +337,39 @@ def _search(space: SearchSpace, opt: SynthOptions, cols: list[int], pool, progre
     except KeyboardInterrupt:  # keep what was found so far
         if len(ev) == 0:
             raise
-        status = budget.update(generation, ev.F[:, cols], ev.feasible,
-                               time.perf_counter() - start)
-        status.reason = "interrupted"
+        status = update("interrupted")
     return problem, status
+
+
+#: share of each generation's offspring taken one step from the feasible front (the rest
+#: come from NSGA-II's crossover and mutation)
+LOCAL_SHARE = 0.25
+
+
+def _move_near_front(problem, pop, front_rows: np.ndarray, rng) -> None:
+    """Replace up to LOCAL_SHARE of the offspring by untried candidates one step from
+    the feasible front (:func:`supplydesign.synth.seed.neighbours`, repaired), drawn at
+    random. Before anything is feasible the offspring stay as they are."""
+    from .seed import neighbours, repair
+
+    if len(front_rows) == 0:
+        return
+    space = problem.space
+    near = neighbours(space, problem.evaluated.X[front_rows])
+    near = near[problem.evaluated.find(near) < 0]
+    want = int(LOCAL_SHARE * len(pop))
+    if len(near) > 4 * want:  # a random few, before the (costlier) repair
+        near = near[np.sort(rng.choice(len(near), size=4 * want, replace=False))]
+    near = repair(space, problem.chain, near, problem.output)
+    offspring = canonical(space, pop.get("X"))
+    keep = (problem.evaluated.find(near) < 0) & ~rows_in(near, offspring)
+    near = np.unique(near[keep], axis=0)
+    k = min(len(near), want)
+    if k == 0:
+        return
+    X = offspring.copy()
+    X[len(X) - k:] = near[rng.choice(len(near), size=k, replace=False)]
+    pop.set("X", X)
 
 
 def _worst_case_check(cands: list[Candidate], steps: int) -> list[Candidate]:

@@ -34,7 +34,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..circuit import formulas
-from .space import KIND_RESISTOR, KIND_WIRE, Decoded, SearchSpace, canonical, decode
+from .space import (
+    KIND_RESISTOR,
+    KIND_WIRE,
+    Decoded,
+    SearchSpace,
+    canonical,
+    decode,
+    rows_in,
+)
 
 #: hum margins the starting designs are sized for: each rail's ripple at its allowance
 #: divided by these (2 dB, 8 dB, 16 dB, 24 dB), so that the seeds spread along the
@@ -140,7 +148,9 @@ class OutputDC:
         ok = converged & np.isfinite(v)
         X_all = np.concatenate([self.X, np.asarray(X, dtype=int)[ok]])
         dc_all = np.concatenate([self.dc, v[ok]])
-        _, first = np.unique(X_all, axis=0, return_index=True)
+        # one entry per set of the variables that matter (the first solved)
+        cols = np.concatenate([self.exact, self.near])
+        _, first = np.unique(X_all[:, cols], axis=0, return_index=True)
         first = np.sort(first)
         self.X, self.dc = X_all[first], dc_all[first]
 
@@ -388,13 +398,14 @@ def _seed(space: SearchSpace, chain: Chain, t: int, r: int, kinds: tuple[int, ..
 
 
 def starting_designs(space: SearchSpace, chain: Chain, limit: int,
-                     margins: tuple[float, ...] = SEED_MARGINS) -> np.ndarray:
+                     margins: tuple[float, ...] | None = None) -> np.ndarray:
     """Starting designs of every search topology, at each hum margin (canonical rows).
 
     Topologies: every transformer and rectifier of the brief's choices, and every
     pattern of link kinds (:func:`_kind_patterns`). At most ``limit`` rows: every
     topology at the middle margins first, then at the outer ones.
     """
+    margins = SEED_MARGINS if margins is None else margins
     rows = []
     patterns = _kind_patterns(space)
     order = sorted(range(len(margins)), key=lambda k: abs(k - (len(margins) - 1) / 2))
@@ -407,3 +418,30 @@ def starting_designs(space: SearchSpace, chain: Chain, limit: int,
     _, first = np.unique(X, axis=0, return_index=True)
     X = X[np.sort(first)]
     return X[:limit]
+
+
+def neighbours(space: SearchSpace, X: np.ndarray) -> np.ndarray:
+    """Every candidate one step from a row of X in one variable (the next value up or
+    down: the next E24 resistor, capacitor or catalog choke, the other link kind),
+    canonical and without repeats: the designs next to a front, where the front most
+    likely grows (a Pareto local search, [1]_).
+
+    References
+    ----------
+    .. [1] L. Paquete, M. Chiarandini, T. Stützle, "Pareto local optimum sets in the
+       biobjective traveling salesman problem: an experimental study", in
+       *Metaheuristics for Multiobjective Optimisation*, LNEMS 535, Springer (2004),
+       177-199.
+    """
+    X = np.asarray(X, dtype=int)
+    if len(X) == 0 or space.n_var == 0:
+        return np.zeros((0, space.n_var), dtype=int)
+    _, xu = space.bounds()
+    steps = np.concatenate([np.eye(space.n_var, dtype=int), -np.eye(space.n_var, dtype=int)])
+    moved = (X[:, None, :] + steps[None, :, :]).reshape(-1, space.n_var)
+    ok = np.all((moved >= 0) & (moved <= xu.astype(int)), axis=1)
+    moved = canonical(space, moved[ok])
+    # a step in an inactive variable leads back to where it started
+    moved = moved[~rows_in(moved, X)]
+    _, first = np.unique(moved, axis=0, return_index=True)
+    return moved[np.sort(first)]

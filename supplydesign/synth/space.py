@@ -226,6 +226,19 @@ def canonical(space: SearchSpace, X: np.ndarray) -> np.ndarray:
     return X
 
 
+def rows_in(A: np.ndarray, B: np.ndarray) -> np.ndarray:
+    """For each row of the integer array A, whether B holds the same row (rows compared
+    as raw bytes, sorted once: no loop over rows)."""
+    A = np.ascontiguousarray(np.asarray(A, dtype=np.int64))
+    B = np.ascontiguousarray(np.asarray(B, dtype=np.int64))
+    if len(A) == 0 or len(B) == 0:
+        return np.zeros(len(A), dtype=bool)
+    key = np.dtype((np.void, 8 * A.shape[1]))
+    a, b = A.view(key).ravel(), np.sort(B.view(key).ravel())
+    at = np.minimum(np.searchsorted(b, a), len(b) - 1)
+    return b[at] == a
+
+
 def _catalog_id(table: dict, row: int) -> str | None:
     """The part id of a catalog row; None for a part of the E-series price model, which
     no catalog lists (its values are written out in full instead)."""
