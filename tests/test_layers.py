@@ -36,7 +36,7 @@ LAYER_OF = {name: depth for depth, names in enumerate(LAYERS) for name in names}
 
 #: Heavy packages that ``import supplydesign`` must not load (the command line's
 #: ``--help`` answers at once; each command imports what it needs).
-HEAVY = ("numpy", "scipy", "matplotlib", "pymoo", "pint", "rich")
+HEAVY = ("numpy", "scipy", "matplotlib", "pymoo", "pint", "rich", "numba")
 
 
 def module_name(path: Path, root: Path = ROOT) -> tuple[str, bool]:
@@ -142,6 +142,23 @@ def test_import_supplydesign_stays_light():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True, cwd=ROOT.parent)
     assert out.stdout.strip() == ""
+
+
+def test_help_stays_light():
+    """`supplydesign --help` (and a command's --help) loads none of the heavy modules,
+    the compiler of the solver's inner loop (numba) least of all."""
+    for args in (["--help"], ["evaluate", "--help"]):
+        code = ("import sys, contextlib, io\n"
+                "from supplydesign.cli import main\n"
+                "with contextlib.redirect_stdout(io.StringIO()):\n"
+                "    try:\n"
+                f"        main({args!r})\n"
+                "    except SystemExit:\n"
+                "        pass\n"
+                f"print(','.join(m for m in {HEAVY!r} if m in sys.modules))")
+        out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                             check=True, cwd=ROOT.parent)
+        assert out.stdout.strip() == "", args
 
 
 def test_public_api_names_resolve():

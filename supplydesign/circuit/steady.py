@@ -27,8 +27,16 @@ that the period map P returns unchanged, x0 = P(x0), by Newton's method
 Because step 1 is exact and the steady state is a fixed point of the very map a
 long transient would iterate, the result equals the long-run steady state of the
 discretised circuit; the remaining error is that of the first-order hold on the
-junction currents, second order in the step. All of it runs on whole batches
-as arrays, one Python loop over the steps of a period.
+junction currents, second order in the step. The Newton iteration runs on whole
+batches as arrays; the steps of a period run in compiled code, each design on its own
+(:func:`~supplydesign.circuit.kernels.run_steps`).
+
+Sensitivities cost a matrix product per conducting step, a plain period a vector
+product: a design computes them once (its first Newton step), then takes chord steps
+corrected by Broyden's update, and computes them again only when a chord step does not
+cut the residual CHORD_RATE-fold. A neighbouring case of the same designs (another
+load, another mains voltage) starts from the first case's state and monodromy matrix
+with chord steps (:class:`WarmStart`).
 
 References
 ----------
@@ -45,28 +53,30 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 
-from .devices import junction, limit_step, with_constants
+from . import kernels
+from .devices import with_constants
 from .netlist import GROUND
 from .statespace import Discrete, StateSpace, _stamp, discretize
 
-#: junction Newton iterations stop when the last step changes a current by less [A]
-CURRENT_TOLERANCE_A = 1e-9
 #: relative residual at which a steady state counts as found (energy norm)
 SHOOTING_TOLERANCE = 1e-9
 #: relative residual below which Newton reuses the last monodromy matrix (a chord step,
 #: the matrix corrected along each step by Broyden's update)
-CHORD_BELOW = 1e-5
+CHORD_BELOW = 0.1
 #: a chord step must cut the residual this much for the next to be one too
-CHORD_RATE = 0.1
+CHORD_RATE = 0.25
 #: periods of plain stepping before each further Newton attempt on designs that failed
 FALLBACK_PERIODS = 10
 #: further Newton attempts at most (each after FALLBACK_PERIODS plain periods)
 FALLBACK_ROUNDS = 3
 #: largest period-to-period decay ratio the extrapolation after plain periods assumes
 MAX_DECAY_RATIO = 0.999
+#: Newton iterations of one step's junction solve at most
+JUNCTION_ITERATIONS = 60
 #: default number of steps per mains period
 STEPS_PER_PERIOD = 512
 
@@ -84,117 +94,32 @@ class SteadyState:
     converged: np.ndarray  # (B,) bool
     iterations: np.ndarray  # (B,) int
     residual: np.ndarray  # (B,) relative energy-norm residual
+    # where the shooting ended: the state at step ``start`` of the period and the period
+    # map's Jacobian there (the last monodromy matrix, Broyden-corrected), for starting a
+    # neighbouring case of the same designs (see periodic_steady_states)
+    start: int = 0
+    x_start: np.ndarray | None = None  # (B, nx)
+    monodromy: np.ndarray | None = None  # (B, nx, nx)
 
     @property
     def steps(self) -> int:
         return self.x.shape[0] - 1
 
-
-class _Junctions:
-    """The implicit junction solve of one step, y = b + Z f(y), for a (sub)batch, with
-    what every step shares worked out once (see :func:`solve_junctions`).
-
-    One or two junctions (half-wave, full-wave) are solved entry by entry on
-    contiguous arrays: numpy's stacked products of 2 x 2 matrices cost more than the
-    few element-wise operations they stand for."""
-
-    def __init__(self, law: str, params: dict[str, np.ndarray], Z: np.ndarray,
-                 vscale: np.ndarray, max_iter: int = 60):
-        self.law, self.params, self.Z = law, params, Z
-        self.P = Z.shape[-1]
-        self.tol = 1e-7 * np.max(vscale)  # [V]
-        self.eye = np.eye(self.P)
-        self.max_iter = max_iter
-        if law == "silicon":
-            self.off_below = -OFF_BELOW_NVT * params["nvt"]
-        if self.P <= 2:
-            self.z = [[np.ascontiguousarray(Z[:, p, q]) for q in range(self.P)]
-                      for p in range(self.P)]
-
-    def times_Z(self, i: np.ndarray) -> np.ndarray:
-        """Z i for currents i (B, P)."""
-        if self.P == 1:
-            return self.z[0][0][:, None] * i
-        if self.P == 2:
-            z, i0, i1 = self.z, i[:, 0], i[:, 1]
-            return np.stack([z[0][0] * i0 + z[0][1] * i1, z[1][0] * i0 + z[1][1] * i1], axis=1)
-        return (self.Z @ i[..., None])[..., 0]
-
-    def _newton(self, g: np.ndarray, res: np.ndarray) -> np.ndarray:
-        """(I - Z diag(g))^-1 res for res (B, P): the junction Newton step."""
-        if self.P == 1:
-            return res / (1.0 - self.z[0][0][:, None] * g)
-        if self.P == 2:
-            z, g0, g1, r0, r1 = self.z, g[:, 0], g[:, 1], res[:, 0], res[:, 1]
-            a, b = 1.0 - z[0][0] * g0, z[0][1] * g1  # J = [[a, -b], [-c, d]]
-            c, d = z[1][0] * g0, 1.0 - z[1][1] * g1
-            det = a * d - b * c
-            return np.stack([(d * r0 + b * r1) / det, (a * r1 + c * r0) / det], axis=1)
-        return np.linalg.solve(self.eye - self.Z * g[:, None, :], res[..., None])[..., 0]
-
-    def solve_linear(self, g: np.ndarray, r: np.ndarray) -> np.ndarray:
-        """(I - diag(g) Z)^-1 r for r (B, P, K): the junction currents' response to a
-        change of the junction voltages with no current."""
-        if self.P == 1:
-            return r / (1.0 - self.z[0][0] * g[:, 0])[:, None, None]
-        if self.P == 2:
-            z, g0, g1 = self.z, g[:, 0, None], g[:, 1, None]
-            a, b = 1.0 - g0 * z[0][0][:, None], g0 * z[0][1][:, None]
-            c, d = g1 * z[1][0][:, None], 1.0 - g1 * z[1][1][:, None]
-            r0, r1 = r[:, 0], r[:, 1]
-            det = a * d - b * c
-            return np.stack([(d * r0 + b * r1) / det, (a * r1 + c * r0) / det], axis=1)
-        return np.linalg.solve(self.eye - g[:, :, None] * self.Z, r)
-
-    def solve(self, b: np.ndarray, y0: np.ndarray):
-        """Junction voltages y, currents f(y) and slopes f'(y), (B, P) each, from the
-        voltages b with no junction current [V] and a starting guess y0 [V]."""
-        law, params = self.law, self.params
-        # every junction of the batch reverse-biased even with no current: no iteration
-        # needed (a valve passes nothing; a silicon junction its saturation current)
-        if law == "valve":
-            if np.all(b <= 0.0):
-                return b, np.zeros_like(b), np.zeros_like(b)
-        elif np.all(b < self.off_below):
-            i, g = junction(law, b, params)
-            return b + self.times_Z(i), i, g
-        y = y0
-        for _ in range(self.max_iter):
-            i, g = junction(law, y, params)
-            res = y - b - self.times_Z(i)
-            y_new = limit_step(law, y - self._newton(g, res), y, params)
-            dy = np.abs(y_new - y)
-            # converged when the last step moves neither voltage nor current noticeably
-            done = np.max(dy) <= self.tol and np.max(dy * g) <= CURRENT_TOLERANCE_A
-            y = y_new
-            if done:
-                break
-        i, g = junction(law, y, params)
-        return y, i, g
+    def warm_start(self, rows: np.ndarray, voltage_factor: np.ndarray) -> WarmStart:
+        """A start for designs ``rows`` of this batch in a neighbouring case: the states
+        where this shooting ended, node voltages scaled by ``voltage_factor`` (B',) (the
+        ratio of the winding emfs), and its monodromy matrices."""
+        x = self.x_start[rows].copy()
+        x[:, : self.ss.n_dynamic_nodes] *= np.asarray(voltage_factor, dtype=float)[:, None]
+        return WarmStart(x, self.monodromy[rows])
 
 
-def solve_junctions(b: np.ndarray, Z: np.ndarray, y0: np.ndarray, law: str,
-                    params: dict[str, np.ndarray], vscale: np.ndarray,
-                    max_iter: int = 60) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Solve y = b + Z f(y) for the junction voltages y of one step.
+class WarmStart(NamedTuple):
+    """Where Newton starts a batch: states (B, nx) at the shooting's first step and a
+    monodromy matrix (B, nx, nx) for its first (chord) steps."""
 
-    Newton's method on the few junction voltages of each design, the silicon
-    steps limited as SPICE limits them (:func:`~supplydesign.circuit.devices.limit_step`),
-    until the last step moves neither a voltage by more than 1e-7 of the largest
-    winding emf nor a current by more than ``CURRENT_TOLERANCE_A``.
-
-    Parameters
-    ----------
-    b : (B, P) junction voltages with zero junction current at the step's end [V]
-    Z : (B, P, P) their sensitivity to the junction currents [ohm]
-    y0 : (B, P) starting guess [V]
-    vscale : (B,) a voltage scale of each design for the tolerance [V]
-
-    Returns
-    -------
-    y, f(y), f'(y) with shapes (B, P).
-    """
-    return _Junctions(law, params, Z, vscale, max_iter).solve(b, y0)
+    x: np.ndarray
+    monodromy: np.ndarray
 
 
 def _newton_step(M: np.ndarray, r: np.ndarray, slow: np.ndarray) -> np.ndarray:
@@ -285,111 +210,6 @@ def _weighted_norm(w: np.ndarray, v: np.ndarray) -> np.ndarray:
     return np.sqrt(np.sum((w * v) ** 2, axis=-1))
 
 
-#: a silicon junction counts as off below this many n·V_T of reverse bias: it then
-#: passes its saturation current to within exp(-20) = 2e-9 of it
-OFF_BELOW_NVT = 20.0
-#: steps ahead the turn-on of a junction is looked for at once (see _OffMap)
-LOOKAHEAD_STEPS = 64
-
-
-class _OffMap:
-    """The exact period map over stretches in which no junction of the batch conducts.
-
-    While every junction is off (a valve anode at or below its cathode; a silicon
-    junction reverse-biased beyond ``OFF_BELOW_NVT`` n·V_T, passing its saturation
-    current), the network is linear and driven by the mains alone. One step is then
-    z -> Phi_off z for z = (x, s), the oscillator s turning by one step's angle, and
-    the junction currents held at their off value; n steps are Phi_off^n, applied as
-    the binary powers Phi_off^(2^i) that n is made of. This is the step-by-step map
-    itself, not an approximation of it: only the rounding differs.
-
-    When the next junction turns on is found by looking ``LOOKAHEAD_STEPS`` ahead at
-    once: the junction voltages j steps on are Cy Phi_off^j z (j = 1..L, the rows of
-    ``ahead``), and the stretch ends before the first step at which any junction of
-    the batch would be on.
-    """
-
-    def __init__(self, law: str, params: dict[str, np.ndarray], Phi: np.ndarray,
-                 Phis: np.ndarray, G0: np.ndarray, G1: np.ndarray, Cy: np.ndarray,
-                 turn: float, steps: int, lookahead: int = LOOKAHEAD_STEPS):
-        """The map of one step for the designs of arrays (B, ...), the mains turning by
-        ``turn`` [rad] a step; jumps of up to ``steps`` steps."""
-        B, nx, P = G0.shape
-        na = nx + 3
-        if law == "valve":
-            self.u_off = np.zeros((B, P))
-            self.y_on = np.zeros((B, P))
-        else:
-            self.u_off = -params["isat"]
-            self.y_on = -OFF_BELOW_NVT * params["nvt"]
-        phi = np.zeros((B, na, na))
-        phi[:, :nx, :nx] = Phi
-        phi[:, :nx, nx:] = Phis
-        phi[:, :nx, nx + 2] += ((G0 + G1) @ self.u_off[..., None])[..., 0]
-        phi[:, nx:, nx:] = [[np.cos(turn), np.sin(turn), 0.0],
-                            [-np.sin(turn), np.cos(turn), 0.0], [0.0, 0.0, 1.0]]
-        self.powers = [phi]
-        while 2 ** len(self.powers) <= steps:
-            self.powers.append(self.powers[-1] @ self.powers[-1])
-        self.powers_x = [p[:, :nx, :nx].copy() for p in self.powers]
-        L = min(lookahead, steps)
-        ahead = np.empty((B, L, P, na))
-        row = np.zeros((B, P, na))
-        row[:, :, :nx] = Cy
-        for j in range(L):
-            row = row @ phi
-            ahead[:, j] = row
-        self.ahead = ahead.reshape(B, L * P, na)
-        self.lookahead = L
-
-    @classmethod
-    def of_batch(cls, batch: _Batch, steps: int) -> _OffMap:
-        """The map of a batch stepping ``steps`` steps per mains period."""
-        return cls(batch.law, batch.params, batch.Phi, batch.Phis, batch.G0, batch.G1,
-                   batch.Cy, 2.0 * np.pi / steps, steps)
-
-    def subset(self, sel: np.ndarray) -> _OffMap:
-        out = object.__new__(_OffMap)
-        out.u_off, out.y_on = self.u_off[sel], self.y_on[sel]
-        out.powers = [p[sel] for p in self.powers]
-        out.powers_x = [p[sel] for p in self.powers_x]
-        out.ahead, out.lookahead = self.ahead[sel], self.lookahead
-        return out
-
-    def off_steps(self, z: np.ndarray, most: int) -> int:
-        """How many steps from state z (B, na) every junction stays off, up to ``most``."""
-        L = min(self.lookahead, most)
-        P = self.y_on.shape[1]
-        y = (self.ahead[:, : L * P] @ z[..., None])[..., 0].reshape(z.shape[0], L, P)
-        on = np.any(y > self.y_on[:, None, :], axis=(0, 2))
-        return int(np.argmax(on)) if on.any() else L
-
-    def jump(self, z: np.ndarray, n: int) -> np.ndarray:
-        """The state n steps on, (B, na)."""
-        for i, p in enumerate(self.powers):
-            if n >> i & 1:
-                z = (p @ z[..., None])[..., 0]
-        return z
-
-    def states(self, z: np.ndarray, n: int) -> np.ndarray:
-        """The states 1..n steps on, (n, B, na), by doubling: the second m of them are
-        Phi_off^m times the first m."""
-        block = self.powers[0] @ z[..., None]  # (B, na, m) with m = 2^i states so far
-        i = 0
-        while block.shape[2] < n:
-            take = min(block.shape[2], n - block.shape[2])
-            block = np.concatenate([block, self.powers[i] @ block[..., :take]], axis=2)
-            i += 1
-        return block.transpose(2, 0, 1)
-
-    def jump_sensitivity(self, S: np.ndarray, n: int) -> np.ndarray:
-        """The sensitivity of the state to the period's start, n steps on."""
-        for i, p in enumerate(self.powers_x):
-            if n >> i & 1:
-                S = p @ S
-        return S
-
-
 @dataclass
 class _Batch:
     """What the shooting works on: the discrete step of one or several state-space
@@ -454,21 +274,19 @@ class _Batch:
 
 
 class _Stepper:
-    """One-period stepping of a (sub)batch, with optional monodromy."""
+    """One-period stepping of a (sub)batch, with optional monodromy (the compiled loop of
+    :func:`~supplydesign.circuit.kernels.run_steps`, one design after another)."""
 
     def __init__(self, batch: _Batch, steps: int, start: int = 0):
         self.batch = batch
-        self.law = batch.law
-        self.params_all = batch.params
+        self.law = kernels.VALVE if batch.law == "valve" else kernels.SILICON
         self.steps = steps
         self.s = self.oscillator(steps, start)  # the period runs from phase start/steps
-        # oscillator forcing of every step: (steps, B, nx), and its junction voltages
-        self.forcing_all = np.einsum("bij,kj->kbi", batch.Phis, self.s[:-1])
-        self.forcing_b = np.einsum("bpi,kbi->kbp", batch.Cy, self.forcing_all)
-        self.Z_all = batch.Cy @ batch.G1  # (B, P, P)
-        self.step_x = np.concatenate([batch.Phi, batch.G0, batch.G1], axis=2)
-        self.step_b = batch.Cy @ self.step_x[:, :, :-batch.Cy.shape[1]]
-        self.off_all = _OffMap.of_batch(batch, steps)
+        self.a, self.nvt, self.v_lin, self.v_crit = kernel_params(batch.law, batch.params)
+        self.vtol = 1e-7 * batch.vscale  # [V]
+        self.powers = _binary_powers(batch.Phi, steps)
+        self.mats = tuple(np.ascontiguousarray(m) for m in
+                          (batch.Phi, batch.G0, batch.G1, batch.Phis, batch.Cy))
 
     @staticmethod
     def oscillator(steps: int, start: int = 0) -> np.ndarray:
@@ -488,80 +306,46 @@ class _Stepper:
         (None without ``sens``). Without ``record`` only the end state is kept: states
         of shape (1, len(sel), nx), currents and voltages None.
         """
-        bt = self.batch
-        full = sel.size == bt.size
-        pick = (lambda a: a) if full else (lambda a: a[sel])
-        Phi, G0, G1, Cy = pick(bt.Phi), pick(bt.G0), pick(bt.G1), pick(bt.Cy)
-        step_x, step_b = pick(self.step_x), pick(self.step_b)
-        params = {p: pick(v) for p, v in self.params_all.items()}
-        junctions = _Junctions(self.law, params, pick(self.Z_all), pick(bt.vscale))
-        forcing = self.forcing_all if full else self.forcing_all[:, sel]
-        forcing_b = self.forcing_b if full else self.forcing_b[:, sel]
-        off = self.off_all if full else self.off_all.subset(sel)
-        law, steps, s = self.law, self.steps, self.s
-        B, nx = x0.shape
-        P = Cy.shape[1]
+        n, nx = x0.shape
+        P = self.a.shape[1]
+        steps = self.steps
+        x = np.array(x0, dtype=float, order="C")
+        u, y, y_prev, y_prev2 = (np.empty((n, P)) for _ in range(4))
         if record:
-            xs = np.empty((steps + 1, B, nx))
-            us = np.empty((steps + 1, B, P))
-            ys = np.empty((steps + 1, B, P))
-        # [x[k]; u[k]; u[k+1]]: x[k+1] = [Phi G0 G1] of it, plus the mains forcing
-        xuu = np.empty((B, nx + 2 * P, 1))
-        xu, u_now, u_next = xuu[:, :nx + P], xuu[:, nx:nx + P, 0], xuu[:, nx + P:, 0]
-        x = x0
-        y = np.einsum("bpi,bi->bp", Cy, x)
-        u, g = junction(law, y, params)
-        if record:
-            xs[0], us[0], ys[0] = x, u, y
-        S = None
-        if sens:
-            S = np.broadcast_to(np.eye(nx), (B, nx, nx)).copy()
-        k = 0
-        y_prev = y_prev2 = y
-        while k < steps:
-            if np.all(y <= off.y_on):
-                # every junction is off: jump over the steps until one turns on
-                z = np.concatenate([x, np.broadcast_to(s[k], (B, 3))], axis=1)
-                n = off.off_steps(z, steps - k)
-                if n > 0:
-                    if record:
-                        zs = off.states(z, n)
-                        xs[k + 1:k + n + 1] = zs[:, :, :nx]
-                        ys[k + 1:k + n + 1] = np.einsum("bpi,kbi->kbp", Cy, zs[:, :, :nx])
-                        us[k + 1:k + n + 1] = junction(law, ys[k + 1:k + n + 1], params)[0]
-                        z = zs[-1]
-                    else:
-                        z = off.jump(z, n)
-                    if sens:
-                        S = off.jump_sensitivity(S, n)
-                    k += n
-                    x = z[:, :nx]
-                    y = np.einsum("bpi,bi->bp", Cy, x)
-                    y_prev = y_prev2 = y
-                    u, g = junction(law, y, params)
-                    continue
-            xuu[:, :nx, 0] = x
-            u_now[...] = u
-            # junction voltages with no junction current at the step's end, and the solve
-            # for the currents from a quadratic extrapolation of the last three voltages
-            b = (step_b @ xu)[..., 0] + forcing_b[k]
-            guess = 3.0 * (y - y_prev) + y_prev2
-            y_prev2, y_prev = y_prev, y
-            g_before = g
-            y, u, g = junctions.solve(b, guess)
-            u_next[...] = u
-            x = (step_x @ xuu)[..., 0] + forcing[k]
-            k += 1
-            if record:
-                xs[k], us[k], ys[k] = x, u, y
-            if sens:
-                # chain rule through the step: d x[k+1] = Phi dx + G0 du[k] + G1 du[k+1],
-                # du = g Cy dx, the last one implicit through the junction solve
-                R = Phi @ S + G0 @ (g_before[:, :, None] * (Cy @ S))
-                S = R + G1 @ junctions.solve_linear(g, g[:, :, None] * (Cy @ R))
+            xs, us, ys = np.empty((n, steps + 1, nx)), np.empty((n, steps + 1, P)), \
+                np.empty((n, steps + 1, P))
+        else:
+            xs = us = ys = np.empty((1, 1, 1))
+        S = np.broadcast_to(np.eye(nx), (n, nx, nx)).copy() if sens else np.empty((1, 1, 1))
+        kernels.run_steps(np.asarray(sel, dtype=np.int64), x, u, y, y_prev, y_prev2, True,
+                          *self.mats, self.s, self.law, self.a, self.nvt, self.v_lin,
+                          self.v_crit, self.vtol, self.powers, JUNCTION_ITERATIONS, sens, S,
+                          record, xs, us, ys)
         if not record:
-            return x[None], None, None, S
-        return xs, us, ys, S
+            return x[None], None, None, S if sens else None
+        # the samples of a design lie together; the callers index steps first
+        return (xs.transpose(1, 0, 2), us.transpose(1, 0, 2), ys.transpose(1, 0, 2),
+                S if sens else None)
+
+
+def kernel_params(law: str, params: dict[str, np.ndarray]) -> tuple[np.ndarray, ...]:
+    """The junction law parameters (B, P) as :func:`~supplydesign.circuit.kernels.run_steps`
+    takes them: perveance [A/V^1.5] (valve) or saturation current [A] (silicon), n·V_T,
+    the start of the linear continuation and SPICE's critical voltage [V] (0 for a
+    valve)."""
+    params = with_constants(law, params)
+    first = params["k" if law == "valve" else "isat"]
+    zeros = np.zeros(first.shape)
+    return tuple(np.ascontiguousarray(params.get(k, zeros), dtype=float)
+                 for k in ("k" if law == "valve" else "isat", "nvt", "v_lin", "v_crit"))
+
+
+def _binary_powers(Phi: np.ndarray, steps: int) -> np.ndarray:
+    """Phi^(2^i) for i = 0 .. L - 1 with 2^L > steps, shape (B, L, nx, nx)."""
+    powers = [np.ascontiguousarray(Phi)]
+    while 2 ** len(powers) <= steps:
+        powers.append(powers[-1] @ powers[-1])
+    return np.ascontiguousarray(np.stack(powers, axis=1))
 
 
 def _max_emf(ss: StateSpace) -> np.ndarray:
@@ -683,18 +467,27 @@ def periodic_steady_states(models: Sequence[StateSpace],
                            steps: int | Sequence[int] = STEPS_PER_PERIOD,
                            tol: float = SHOOTING_TOLERANCE, max_iter: int = 12,
                            x0s: Sequence[np.ndarray | None] | None = None,
-                           fallback_periods: int | None = None) -> list[SteadyState]:
+                           fallback_periods: int | None = None,
+                           near: Sequence[WarmStart | None] | None = None
+                           ) -> list[SteadyState]:
     """:func:`periodic_steady_state` of several batches at once, in the order given.
 
     Batches of one junction law, one port count (rectifier arrangement) and one
     number of steps are solved as one array, their states padded to the largest
-    (see :class:`_Batch`): one Python loop over the steps of a period for all of
-    them, however many topologies they hold. ``steps`` and ``x0s`` are one value
-    for all or one per model.
+    (see :class:`_Batch`). ``steps`` and ``x0s`` are one value for all or one per
+    model.
+
+    ``near`` may give, per model, a :class:`WarmStart` from the steady state of the
+    same designs in a neighbouring case (:meth:`SteadyState.warm_start`; the same
+    topology and steps, another load or mains voltage): Newton then starts from its
+    states (unless ``x0s`` gives them) with chord steps on its monodromy matrices,
+    corrected by Broyden's update as it goes, and computes sensitivities only for
+    designs whose residual the chord steps do not cut fast enough.
     """
     n = len(models)
     steps_of = [steps] * n if isinstance(steps, int) else list(steps)
     x0s = [None] * n if x0s is None else list(x0s)
+    near = [None] * n if near is None else list(near)
     groups: dict[tuple, list[int]] = {}
     for i, ss in enumerate(models):
         key = (ss.circuit.topology.law, ss.Cy.shape[1], steps_of[i], _choke_input(ss))
@@ -704,26 +497,38 @@ def periodic_steady_states(models: Sequence[StateSpace],
         mods = [models[i] for i in members]
         discs = [discretize(ss, 1.0 / (ss.circuit.frequency_hz * n_steps)) for ss in mods]
         batch = _Batch.of(mods, discs)
-        x0 = np.zeros((batch.size, batch.nx))
-        row = 0
-        for i, ss in zip(members, mods, strict=True):
-            x0[row:row + ss.A.shape[0], :ss.nx] = initial_guess(ss) if x0s[i] is None else x0s[i]
-            row += ss.A.shape[0]
         # A choke input commutates from one anode to the next at the zero crossings of
         # the mains; a period cut there makes the period map kink (Newton overshoots and
         # needs further attempts), so it is shot from the crest, mid-conduction, and the
         # samples are put back in phase order afterwards. The discrete steady state is
         # the same sequence of samples wherever the period is cut.
         start = n_steps // 4 if choke_input else 0
-        x, u, y, s, converged, iterations, residual = _shoot(batch, n_steps, tol, max_iter, x0,
-                                                             fallback_periods, start)
+        x0 = np.zeros((batch.size, batch.nx))
+        m0 = np.full((batch.size, batch.nx, batch.nx), np.nan)
+        row = 0
+        for i, ss in zip(members, mods, strict=True):
+            rows = slice(row, row + ss.A.shape[0])
+            row = rows.stop
+            lead = near[i]
+            if x0s[i] is not None:
+                x0[rows, :ss.nx] = x0s[i]
+            elif lead is not None:
+                x0[rows, :ss.nx] = lead.x
+            else:
+                x0[rows, :ss.nx] = initial_guess(ss)
+            if lead is not None:
+                m0[rows] = 0.0
+                m0[rows, :ss.nx, :ss.nx] = lead.monodromy
+        x, u, y, s, converged, iterations, residual, x_end, mono = _shoot(
+            batch, n_steps, tol, max_iter, x0, fallback_periods, start, m0)
         x, u, y = (_from_phase_zero(a, start) for a in (x, u, y))
         row = 0
         for i, ss, disc in zip(members, mods, discs, strict=True):
             rows = slice(row, row + ss.A.shape[0])
             row = rows.stop
             out[i] = SteadyState(ss, disc, x[:, rows, :ss.nx], u[:, rows], y[:, rows], s,
-                                 converged[rows], iterations[rows], residual[rows])
+                                 converged[rows], iterations[rows], residual[rows], start,
+                                 x_end[rows, :ss.nx], mono[rows, :ss.nx, :ss.nx])
     return out  # type: ignore[return-value]
 
 
@@ -747,9 +552,10 @@ def _from_phase_zero(a: np.ndarray, start: int) -> np.ndarray:
 
 
 def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
-           fallback_periods: int | None, start: int = 0):
+           fallback_periods: int | None, start: int = 0, m0: np.ndarray | None = None):
     """Newton shooting on a batch from states x at step ``start`` of the period (see the
-    module docstring)."""
+    module docstring); designs whose monodromy matrix m0 (B, nx, nx) is given (not NaN)
+    start with chord steps on it."""
     if fallback_periods is None:
         fallback_periods = FALLBACK_PERIODS
     B, nx = batch.size, batch.nx
@@ -766,40 +572,43 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
     iterations = np.zeros(B, dtype=int)
     residual = np.full(B, np.inf)
     trial = x.copy()
-    # Near the fixed point Newton converges quadratically: once every active design's
-    # residual is below CHORD_BELOW, the period runs without sensitivities and the
-    # step reuses the last monodromy matrix (a chord step).
-    monodromy = np.zeros((B, nx, nx))
+    # Near the fixed point Newton converges quadratically: once a design's residual is
+    # below CHORD_BELOW, its period runs without sensitivities and its step reuses the
+    # last monodromy matrix (a chord step), corrected by Broyden's update.
+    given = np.zeros(B, dtype=bool) if m0 is None else ~np.isnan(m0[:, 0, 0])
+    monodromy = np.zeros((B, nx, nx)) if m0 is None else np.where(given[:, None, None], m0,
+                                                                    0.0)
     near = np.zeros(B, dtype=bool)
     best_res = np.zeros((B, nx))  # P(x) - x at best_x
-    # the period of each design's best start, kept from the chord runs, which record it
-    P = batch.Cy.shape[1]
-    out_x = np.empty((steps + 1, B, nx))
-    out_u = np.empty((steps + 1, B, P))
-    out_y = np.empty((steps + 1, B, P))
-    recorded = np.zeros(B, dtype=bool)
 
-    def newton(active: np.ndarray, n_iter: int) -> None:
-        near[active] = False
+    def newton(active: np.ndarray, n_iter: int, chord: np.ndarray | None = None) -> None:
+        near[active] = False if chord is None else chord[active]
         lam[active] = 1.0
         step[active] = 0.0
         for _it in range(n_iter):
-            sens = not np.all(near[active])
+            # each design runs with sensitivities or, near its fixed point, without
+            sens = ~near[active]
             start = trial[active]
-            xs, us, ys, S = stepper.run(start, active, sens=sens, record=not sens)
-            r = xs[-1] - start
+            r = np.empty_like(start)
+            for with_sens in (True, False):
+                part = np.flatnonzero(sens == with_sens)
+                if part.size == 0:
+                    continue
+                x_end, S = stepper.run(start[part], active[part], sens=with_sens,
+                                       record=False)[::3]
+                r[part] = x_end[-1] - start[part]
+                if with_sens:
+                    monodromy[active[part]] = S
             rel = _weighted_norm(w[active], r) / np.maximum(_weighted_norm(w[active], start),
                                                              1e-300)
             iterations[active] += 1
             improved = rel < best_r[active]
             # accept improved trials; the others go back towards the best point
             acc = active[improved]
-            if not sens:
-                _broyden(monodromy, acc, trial[acc] - best_x[acc], r[improved] - best_res[acc],
-                         w[acc])
-                out_x[:, acc], out_u[:, acc] = xs[:, improved], us[:, improved]
-                out_y[:, acc] = ys[:, improved]
-            recorded[acc] = not sens
+            chorded = improved & ~sens
+            acc_chord = active[chorded]
+            _broyden(monodromy, acc_chord, trial[acc_chord] - best_x[acc_chord],
+                     r[chorded] - best_res[acc_chord], w[acc_chord])
             before = best_r[active]
             best_r[acc] = rel[improved]
             best_x[acc] = trial[acc]
@@ -808,10 +617,10 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
             done = improved & (rel < tol)
             converged[active[done]] = True
             go = improved & ~done
-            if sens:
-                monodromy[active] = S
-            # chord steps go on while each cuts the residual CHORD_RATE-fold
-            near[active] = improved & (rel < CHORD_BELOW) & (sens | (rel < CHORD_RATE * before))
+            # chord steps follow a Newton step that ended below CHORD_BELOW, and go on
+            # while each cuts the residual CHORD_RATE-fold (a given monodromy matrix
+            # gets its first step whatever the residual)
+            near[active] = improved & np.where(sens, rel < CHORD_BELOW, rel < CHORD_RATE * before)
             if np.any(go):
                 ag = active[go]
                 step[ag] = _limit_step(_newton_step(monodromy[ag], r[go], slow),
@@ -825,7 +634,7 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
                 break
             trial[active] = best_x[active] + lam[active, None] * step[active]
 
-    newton(np.arange(B), max_iter)
+    newton(np.arange(B), max_iter, given)
     # Further attempts for the designs Newton could not settle (lightly damped LC
     # sections, choke inputs below critical): let the circuit itself run for a few
     # periods from the best point found, so that the modes Newton stumbled over die
@@ -863,9 +672,7 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
         worse = np.flatnonzero(~converged & (rec[0] < best_r))
         best_r[worse], best_x[worse], residual[worse] = (rec[0][worse], rec[1][worse],
                                                          rec[2][worse])
-        recorded[worse] = False
-    missing = np.flatnonzero(~recorded)
-    if missing.size:
-        xs, us, ys, _ = stepper.run(best_x[missing], missing, sens=False)
-        out_x[:, missing], out_u[:, missing], out_y[:, missing] = xs, us, ys
-    return out_x, out_u, out_y, _Stepper.oscillator(steps), converged, iterations, residual
+    # the period of each design's best start, recorded for the figures
+    out_x, out_u, out_y, _ = stepper.run(best_x, np.arange(B), sens=False)
+    return (out_x, out_u, out_y, _Stepper.oscillator(steps), converged, iterations, residual,
+            best_x, monodromy)

@@ -11,7 +11,7 @@ Method
 ------
 The same exact step as the steady-state solver (:func:`statespace.discretize`:
 the linear network exactly, the junction currents linear within the step) and
-the same implicit junction solve (:func:`steady.solve_junctions`), stepped
+the same implicit junction solve (:func:`kernels.run_steps`), stepped
 forward instead of shot. Steps are set in fractions of each design's mains
 period, so every design of the batch is at the same mains phase at every step
 and the state at the end of each whole period (phase 0) can seed the steady-
@@ -68,10 +68,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .devices import junction
+from . import kernels
 from .netlist import Circuit
 from .statespace import build_state_space, discretize
-from .steady import OFF_BELOW_NVT, _Junctions, _OffMap
+from .steady import JUNCTION_ITERATIONS, kernel_params
 
 #: binary sub-steps of the very first step, in fractions of it
 SUBSTEPS = np.array([1, 1, 2, 4, 8, 16, 32], dtype=float) / 64.0
@@ -90,6 +90,8 @@ SURGE_FROM_S = 10e-6
 SETTLE_REL = 1e-2
 #: ... or when its period mean changes by less than this fraction of it per period
 CREEP_REL = 1e-3
+#: steps stepped at once at most (the block's states are kept for its figures)
+BLOCK_STEPS = 256
 #: the 90 % of the rise time
 RISE_FRACTION = 0.9
 
@@ -136,6 +138,7 @@ class _Plant:
         self.vscale = np.concatenate([
             np.max(np.stack([g[0].value(e.name, "emf") for e in g[0].topology.of_kind("W")]),
                    axis=0) for g in groups])
+        self.kernel_params = kernel_params(self.law, self.params)
         self.Cy = np.concatenate([_fit(m.Cy, None, self.nx) for m in firsts])
         self.rail_rows, self.cap_rows = [], []
         for g, m in zip(groups, firsts, strict=True):
@@ -166,10 +169,16 @@ class _Plant:
                 parts["Ru"].append(_fit(ss.Ru[:, rails], R, None))
                 parts["Cx"].append(_fit(ss.Rx[:, caps], R, nx))
             a = {k: np.concatenate(v) for k, v in parts.items()}
-            self._disc[key] = {"PhiG0": np.concatenate([a["Phi"], a["G0"]], axis=2),
-                               "Phis": a["Phis"], "G1": a["G1"], "Z": self.Cy @ a["G1"],
-                               "Rx": a["Rx"], "Rs": a["Rs"], "Ru": a["Ru"], "Cx": a["Cx"]}
+            self._disc[key] = {"Phi": a["Phi"], "G0": a["G0"], "Phis": a["Phis"], "G1": a["G1"],
+                               "out_x": np.concatenate([a["Rx"], a["Cx"]], axis=1),
+                               "Rs": a["Rs"], "Ru": a["Ru"]}
         return self._disc[key]
+
+    def junction_params(self, active: np.ndarray) -> tuple[np.ndarray, ...]:
+        """The junction law parameters of the active designs as the compiled step takes
+        them (:func:`~supplydesign.circuit.kernels.run_steps`): a, n·V_T, v_lin, v_crit."""
+        p = self.kernel_params
+        return tuple(np.ascontiguousarray(v[active]) for v in p)
 
     def matrices(self, frac: float, phase: np.ndarray, active: np.ndarray) -> dict:
         """Step matrices of the active designs, each in its own phase."""
@@ -185,6 +194,12 @@ class _Plant:
             for n, a in full.items():
                 out[n][mine] = a[active[mine]]
         return out
+
+
+def _block_matrices(plant: _Plant, mats: dict, active: np.ndarray) -> tuple[np.ndarray, ...]:
+    """Phi, G0, G1, Phis, Cy of the active designs as the compiled step takes them."""
+    return tuple(np.ascontiguousarray(m) for m in
+                 (mats["Phi"], mats["G0"], mats["G1"], mats["Phis"], plant.Cy[active]))
 
 
 def _fit(a: np.ndarray, rows: int | None, cols: int | None) -> np.ndarray:
@@ -379,6 +394,7 @@ def _switch_on(plant: _Plant, warm_at_s, final_v, t_max_s, delay_s, record) -> S
     warming = bool(np.isfinite(uniq).any())
     phase = np.zeros(B, dtype=int)
     y_prev = y_prev2 = y
+    law = kernels.VALVE if plant.law == "valve" else kernels.SILICON
     for chunk in _schedule(max_periods):
         T = plant.period[active]
         area = np.zeros((active.size, R))
@@ -391,66 +407,36 @@ def _switch_on(plant: _Plant, warm_at_s, final_v, t_max_s, delay_s, record) -> S
             new_key = (h, tuple(phase[:active.size]))
             if new_key != key:
                 mats, key = plant.matrices(h, phase[:active.size], active), new_key
-                Cy, vscale = plant.Cy[active], plant.vscale[active]
-                params = {k: v[active] for k, v in plant.params.items()}
-                junctions = _Junctions(plant.law, params, mats["Z"], vscale)
-                y_on = (np.zeros_like(y) if plant.law == "valve"
-                        else -OFF_BELOW_NVT * params["nvt"])
-                step_b = Cy @ mats["PhiG0"]  # junction voltages with no current, from x, u
-                force_b = Cy @ mats["Phis"]
-                out_x = np.concatenate([mats["Rx"], mats["Cx"]], axis=1)  # rails, capacitors
-                off = None
-            # every junction off and the rest of the chunk in steps of h: jump over the
-            # steps until a junction turns on (or a stage warms up, or the chunk ends)
-            if chunk[-1] == h and pos + 1 < len(chunk) and np.all(y <= y_on):
-                most = len(chunk) - pos
-                ahead = uniq[active]
-                later = ahead[(ahead > frac + h + 1e-12) & np.isfinite(ahead)]
-                if later.size:  # the steps before the next warm-up instant
-                    most = min(most, int(np.floor((later.min() - frac - 1e-12) / h)))
-                n = 0
-                if most > 1:
-                    if off is None:
-                        nxp = mats["PhiG0"].shape[1]
-                        off = _OffMap(plant.law, params, mats["PhiG0"][:, :, :nxp],
-                                      mats["Phis"], mats["PhiG0"][:, :, nxp:], mats["G1"], Cy,
-                                      2.0 * np.pi * h, len(chunk))
-                    z = np.concatenate([x, np.broadcast_to(_oscillator(frac), (x.shape[0], 3))],
-                                       axis=1)
-                    n = off.off_steps(z, most)
-                if n > 0:
-                    zs = off.states(z, n)
-                    xs = zs[:, :, :nx]
-                    ys = np.einsum("api,nai->nap", Cy, xs)
-                    us = junction(plant.law, ys, params)[0]
-                    fr = frac + h * np.arange(1, n + 1)
-                    t = fr[:, None] * T[None, :]
-                    vv = np.einsum("ari,nai->nar", out_x, xs)
-                    v = (vv[:, :, :R] + np.einsum("ari,ni->nar", mats["Rs"], _oscillator(fr))
-                         + np.einsum("arp,nap->nar", mats["Ru"], us))
-                    area += account(t, v, vv[:, :, R:], us, h)
-                    x, y, u = xs[-1], ys[-1], us[-1]
-                    y_prev = y_prev2 = y
-                    frac += n * h
-                    span += n * h
-                    pos += n
-                    continue
-            s0 = _oscillator(frac)  # the step's forcing starts from the oscillator at its start
-            frac += h
-            s = _oscillator(frac)
-            xu = np.concatenate([x, u], axis=1)[..., None]
-            b = (step_b @ xu)[..., 0] + force_b @ s0
-            # the junction solve starts from the junction voltages extrapolated
-            guess = 3.0 * (y - y_prev) + y_prev2
-            y_prev2, y_prev = y_prev, y
-            y, u, _ = junctions.solve(b, guess)
-            x = (mats["PhiG0"] @ xu)[..., 0] + mats["Phis"] @ s0 + (mats["G1"] @ u[..., None])[
-                ..., 0]
-            vv = (out_x @ x[..., None])[..., 0]
-            v = vv[:, :R] + mats["Rs"] @ s + (mats["Ru"] @ u[..., None])[..., 0]
-            area += account((frac * T)[None], v[None], vv[None, :, R:], u[None], h)
-            span += h
-            pos += 1
+                steppers = _block_matrices(plant, mats, active)
+            # a block of steps of size h in one load phase: up to the chunk's next step
+            # size, the next warm-up instant or BLOCK_STEPS
+            n = 1
+            while pos + n < len(chunk) and chunk[pos + n] == h and n < BLOCK_STEPS:
+                n += 1
+            ahead = uniq[active]
+            later = ahead[(ahead > frac + h + 1e-12) & np.isfinite(ahead)]
+            if later.size:  # the steps before the next warm-up instant
+                n = max(1, min(n, int(np.floor((later.min() - frac - 1e-12) / h))))
+            fr = frac + h * np.arange(n + 1)
+            A = active.size
+            xs, us, ys = np.empty((A, n + 1, nx)), np.empty((A, n + 1, P)), \
+                np.empty((A, n + 1, P))
+            x, u, y, y_prev, y_prev2 = (np.array(v, dtype=float, order="C")
+                                        for v in (x, u, y, y_prev, y_prev2))
+            kernels.run_steps(np.arange(A), x, u, y, y_prev, y_prev2, False, *steppers,
+                              _oscillator(fr), law, *plant.junction_params(active),
+                              1e-7 * plant.vscale[active], np.empty((1, 1, 1, 1)),
+                              JUNCTION_ITERATIONS, False, np.empty((1, 1, 1)), True, xs, us,
+                              ys)
+            xs, us = xs[:, 1:].transpose(1, 0, 2), us[:, 1:].transpose(1, 0, 2)
+            t_end = fr[1:, None] * T[None, :]
+            vv = np.einsum("ari,nai->nar", mats["out_x"], xs)
+            v = (vv[:, :, :R] + np.einsum("ari,ni->nar", mats["Rs"], _oscillator(fr[1:]))
+                 + np.einsum("arp,nap->nar", mats["Ru"], us))
+            area += account(t_end, v, vv[:, :, R:], us, h)
+            frac = fr[-1]
+            span += n * h
+            pos += n
         last_v[active] = area / span
         done = frac * T >= t_max[active] - 1e-12
         if target is not None:

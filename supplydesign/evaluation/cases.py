@@ -24,7 +24,12 @@ import numpy as np
 
 from ..circuit.netlist import Circuit, OperatingCase, build, solving_groups
 from ..circuit.statespace import build_state_space
-from ..circuit.steady import STEPS_PER_PERIOD, initial_guess, periodic_steady_states
+from ..circuit.steady import (
+    STEPS_PER_PERIOD,
+    WarmStart,
+    initial_guess,
+    periodic_steady_states,
+)
 from ..design import Design
 from .analysis import FigureArrays, Solved, figure_arrays, figures_from_arrays
 from .figures import Figures
@@ -96,21 +101,25 @@ def solve_circuit(circuit: Circuit, steps: int = STEPS_PER_PERIOD,
 
 
 def solve_circuits(circuits: Sequence[Circuit], steps: Sequence[int],
-                   x0s: Sequence[np.ndarray | None] | None = None) -> list[Solved]:
+                   x0s: Sequence[np.ndarray | None] | None = None,
+                   near: Sequence[WarmStart | None] | None = None) -> list[Solved]:
     """:func:`solve_circuit` of several circuits (any topologies), solved together as far
-    as :func:`~supplydesign.circuit.steady.periodic_steady_states` can."""
+    as :func:`~supplydesign.circuit.steady.periodic_steady_states` can; ``near`` as
+    there."""
     x0s = [None] * len(circuits) if x0s is None else list(x0s)
+    near = [None] * len(circuits) if near is None else list(near)
     models = [build_state_space(c) for c in circuits]
     out: list = [None] * len(circuits)
     for cold in (False, True):
         which = [i for i, c in enumerate(circuits) if _no_load(c) == cold]
         if not which:
             continue
-        starts = [x0s[i] if x0s[i] is not None or not cold else crest_guess(circuits[i], models[i])
-                  for i in which]
+        starts = [x0s[i] if x0s[i] is not None or near[i] is not None or not cold
+                  else crest_guess(circuits[i], models[i]) for i in which]
         iterations = {"max_iter": NO_LOAD_ITERATIONS} if cold else {}
         steadies = periodic_steady_states([models[i] for i in which], [steps[i] for i in which],
-                                          x0s=starts, **iterations)
+                                          x0s=starts, near=[near[i] for i in which],
+                                          **iterations)
         for i, st in zip(which, steadies, strict=True):
             out[i] = Solved(circuits[i], st)
     return out
@@ -187,14 +196,19 @@ def concatenate(circuits: Sequence[Circuit]) -> Circuit:
 def solve_cases(designs: Sequence[Design], cases: Sequence[Case],
                 steps: int = STEPS_PER_PERIOD,
                 adjust=None) -> dict[str, CaseResult]:
-    """Steady state of every design in every case: per topology, all cases in one batch.
+    """Steady state of every design in every case, per topology.
+
+    The first case is solved first; every other case of a design starts from it (its
+    final state, node voltages scaled by the ratio of the mains factors, and its
+    monodromy matrix: see :meth:`~supplydesign.circuit.steady.SteadyState.warm_start`),
+    all of them as one batch per topology.
 
     ``adjust(case, circuit)``, when given, may change a case's circuit values in
     place before the solve (such as loads scaled for a slope).
     """
     parts: dict[str, list] = {c.name: [] for c in cases}
     groups = solving_groups(designs, steps)
-    batches = []
+    per_case = []
     for idx, _n_steps in groups:
         sub = [designs[i] for i in idx]
         circuits = []
@@ -203,14 +217,31 @@ def solve_cases(designs: Sequence[Design], cases: Sequence[Case],
             if adjust is not None:
                 adjust(c, circuit)
             circuits.append(circuit)
-        batches.append(concatenate(circuits))
-    solved_all = solve_circuits(batches, [n for _, n in groups])
-    for (idx, _n_steps), solved in zip(groups, solved_all, strict=True):
-        arrays = figure_arrays(solved)
+        per_case.append(circuits)
+    n_steps = [n for _, n in groups]
+    leads = solve_circuits([cs[0] for cs in per_case], n_steps)
+    solved_rest = [None] * len(groups)
+    if len(cases) > 1:
+        starts = []
+        for (idx, _), lead in zip(groups, leads, strict=True):
+            sub = [designs[i] for i in idx]
+            first = mains_factors(sub, cases[0].mains)
+            parts_of = [lead.steady.warm_start(np.arange(len(idx)),
+                                               mains_factors(sub, c.mains) / first)
+                        for c in cases[1:]]
+            starts.append(WarmStart(*(np.concatenate(a) for a in zip(*parts_of, strict=True))))
+        solved_rest = solve_circuits([concatenate(cs[1:]) for cs in per_case], n_steps,
+                                     near=starts)
+    for (idx, _n_steps), lead, rest in zip(groups, leads, solved_rest, strict=True):
         n = len(idx)
-        for k, c in enumerate(cases):
+        arrays = figure_arrays(lead)
+        parts[cases[0].name].append((Batch(idx, lead, np.arange(n)), arrays))
+        if rest is None:
+            continue
+        arrays = figure_arrays(rest)
+        for k, c in enumerate(cases[1:]):
             rows = np.arange(k * n, (k + 1) * n)
-            parts[c.name].append((Batch(idx, solved, rows), _rows(arrays, rows)))
+            parts[c.name].append((Batch(idx, rest, rows), _rows(arrays, rows)))
     return {c.name: CaseResult(c, _stack(parts[c.name], len(designs)),
                                [b for b, _ in parts[c.name]]) for c in cases}
 
