@@ -9,7 +9,9 @@ on one file and on the whole population, with and without the worst cases:
     supplydesign evaluate FILES --quiet --json OUT
 
 The marginal cost per design is (time of N files - time of 1 file) / (N - 1):
-start-up and imports cancel. ngspice runs a sample of the same designs from rest
+start-up and imports cancel. First, one design is run with an empty numba cache (the
+first run after an install, compiling the solver's inner loop) and again with that
+cache filled; both wall times are printed. ngspice runs a sample of the same designs from rest
 until DC and ripple stop moving (spice_reference.settled_run) at ``--reltol``;
 the ratio is ngspice's mean time per design over our marginal time per design.
 The load average of the machine is printed before and after.
@@ -94,8 +96,10 @@ OLD_EXPONENTIAL = ("import scipy.linalg, supplydesign.circuit.statespace as s; "
                    "raise SystemExit(main())")
 
 
-def _run(files: list[str], worst: bool, out: str, old_exponential: bool = False) -> float:
-    """Wall time of one ``supplydesign evaluate`` process [s]."""
+def _run(files: list[str], worst: bool, out: str, old_exponential: bool = False,
+         cache_dir: str | None = None) -> float:
+    """Wall time of one ``supplydesign evaluate`` process [s]; ``cache_dir``: numba's cache
+    folder (an empty one: the first run after an install, compilation included)."""
     entry = ["-c", OLD_EXPONENTIAL] if old_exponential else ["-m", "supplydesign"]
     cmd = [sys.executable, *entry, "evaluate", *files, "--quiet", "--json", out, "--force"]
     if not worst:
@@ -104,6 +108,8 @@ def _run(files: list[str], worst: bool, out: str, old_exponential: bool = False)
     # one BLAS thread, as ngspice runs on one core (on a loaded machine more threads only
     # fight over the cores)
     env.setdefault("OPENBLAS_NUM_THREADS", "1")
+    if cache_dir is not None:
+        env["NUMBA_CACHE_DIR"] = cache_dir
     root = os.path.dirname(HERE)
     env["PYTHONPATH"] = root + os.pathsep + env.get("PYTHONPATH", "")
     t0 = time.perf_counter()
@@ -203,9 +209,17 @@ def main() -> None:
     figures: dict = {}
     ours: dict = {}
     with tempfile.TemporaryDirectory(prefix="supplydesign-bench-") as tmp:
+        # the solver's compiled code: built on the first run after an install, then loaded
+        # from numba's cache (an empty cache folder stands for a fresh install)
+        files = _write(populations["one topology"][:1], os.path.join(tmp, "first"))
+        out = os.path.join(tmp, "out.json")
+        cold_cache = os.path.join(tmp, "numba-cache")
+        cold = _run(files, False, out, args.old_exponential, cold_cache)
+        warm = _run(files, False, out, args.old_exponential, cold_cache)
+        print(f"one design, --nominal-only: first run after install {cold:.2f} s (compiling "
+              f"the solver's inner loop), then {warm:.2f} s (compiled code from the cache)")
         for name, designs in populations.items():
             files = _write(designs, os.path.join(tmp, name.replace(" ", "-")))
-            out = os.path.join(tmp, "out.json")
             for mode in modes:
                 worst = mode == "worst"
                 t1 = min(_run(files[:1], worst, out, args.old_exponential)

@@ -51,6 +51,7 @@ alone into 3150 Ω), its DC not measurably.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
@@ -337,7 +338,7 @@ def _add_node_capacitances(elements: list[Element], nodes: list[str],
 def element_values(design: Design, topo: Topology, case: OperatingCase) -> dict[str, dict]:
     tr, rect = design.transformer, design.rectifier
     vals: dict[str, dict[str, float]] = {}
-    amp = np.sqrt(2.0) * tr.open_circuit_v * case.mains_factor
+    amp = math.sqrt(2.0) * tr.open_circuit_v * case.mains_factor
     for e in topo.elements:
         role = e.role
         if e.kind == "W":
@@ -345,7 +346,7 @@ def element_values(design: Design, topo: Topology, case: OperatingCase) -> dict[
         elif role[0] == "leakage":
             vals[e.name] = {"l": tr.leakage_h, "r": 0.0}
         elif role[0] == "leakage_damping":
-            vals[e.name] = {"r": LEAKAGE_DAMPING * np.sqrt(tr.leakage_h / JUNCTION_CAPACITANCE)}
+            vals[e.name] = {"r": LEAKAGE_DAMPING * math.sqrt(tr.leakage_h / JUNCTION_CAPACITANCE)}
         elif role[0] == "diode":
             if rect.kind == "valve":
                 vals[e.name] = {"k": rect.perveance}
@@ -362,7 +363,7 @@ def element_values(design: Design, topo: Topology, case: OperatingCase) -> dict[
             vals[e.name] = {"c": NODE_CAPACITANCE}
         elif role[0] == "choke_damping":
             l_h = design.rails[role[1]].link.inductance_h
-            vals[e.name] = {"r": CHOKE_DAMPING * np.sqrt(l_h / JUNCTION_CAPACITANCE)}
+            vals[e.name] = {"r": CHOKE_DAMPING * math.sqrt(l_h / JUNCTION_CAPACITANCE)}
         else:
             rail = design.rails[role[1]]
             if role[0] == "link":
@@ -379,7 +380,7 @@ def element_values(design: Design, topo: Topology, case: OperatingCase) -> dict[
             elif role[0] == "load":
                 if e.kind == "R":
                     cold = case.load == "none"
-                    vals[e.name] = {"r": np.inf if cold else rail.load_resistance_ohm}
+                    vals[e.name] = {"r": math.inf if cold else rail.load_resistance_ohm}
                 else:
                     loads = {"full": rail.current_a, "idle": rail.idle_a, "none": 0.0}
                     vals[e.name] = {"i": loads[case.load]}

@@ -69,6 +69,8 @@ SHOOTING_TOLERANCE = 1e-9
 CHORD_BELOW = 0.1
 #: a chord step must cut the residual this much for the next to be one too
 CHORD_RATE = 0.25
+#: a chord period from a residual below this keeps its samples (it is likely the last)
+RECORD_BELOW = 1e-6
 #: periods of plain stepping before each further Newton attempt on designs that failed
 FALLBACK_PERIODS = 10
 #: further Newton attempts at most (each after FALLBACK_PERIODS plain periods)
@@ -580,25 +582,35 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
                                                                     0.0)
     near = np.zeros(B, dtype=bool)
     best_res = np.zeros((B, nx))  # P(x) - x at best_x
+    # the period from each design's best start, for the figures, and whether it is there
+    P = Cy.shape[1]
+    outs = (np.empty((steps + 1, B, nx)), np.empty((steps + 1, B, P)),
+            np.empty((steps + 1, B, P)))
+    recorded = np.zeros(B, dtype=bool)
 
     def newton(active: np.ndarray, n_iter: int, chord: np.ndarray | None = None) -> None:
         near[active] = False if chord is None else chord[active]
         lam[active] = 1.0
         step[active] = 0.0
         for _it in range(n_iter):
-            # each design runs with sensitivities or, near its fixed point, without
+            # each design runs with sensitivities or, near its fixed point, without; a
+            # chord period from a residual below RECORD_BELOW is likely the last, and
+            # keeps its samples for the figures
             sens = ~near[active]
             start = trial[active]
             r = np.empty_like(start)
-            for with_sens in (True, False):
-                part = np.flatnonzero(sens == with_sens)
+            kind = np.where(sens, 0, np.where(best_r[active] < RECORD_BELOW, 2, 1))
+            for run_kind in (0, 1, 2):
+                part = np.flatnonzero(kind == run_kind)
                 if part.size == 0:
                     continue
-                x_end, S = stepper.run(start[part], active[part], sens=with_sens,
-                                       record=False)[::3]
-                r[part] = x_end[-1] - start[part]
-                if with_sens:
+                xs, us, ys, S = stepper.run(start[part], active[part], sens=run_kind == 0,
+                                            record=run_kind == 2)
+                r[part] = xs[-1] - start[part]
+                if run_kind == 0:
                     monodromy[active[part]] = S
+                elif run_kind == 2:
+                    rec_rows, samples = part, (xs, us, ys)
             rel = _weighted_norm(w[active], r) / np.maximum(_weighted_norm(w[active], start),
                                                              1e-300)
             iterations[active] += 1
@@ -609,6 +621,13 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
             acc_chord = active[chorded]
             _broyden(monodromy, acc_chord, trial[acc_chord] - best_x[acc_chord],
                      r[chorded] - best_res[acc_chord], w[acc_chord])
+            recorded[acc] = False
+            if np.any(kind == 2):
+                take = improved[rec_rows]
+                rows = active[rec_rows[take]]
+                for out, got in zip(outs, samples, strict=True):
+                    out[:, rows] = got[:, take]
+                recorded[rows] = True
             before = best_r[active]
             best_r[acc] = rel[improved]
             best_x[acc] = trial[acc]
@@ -672,7 +691,12 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
         worse = np.flatnonzero(~converged & (rec[0] < best_r))
         best_r[worse], best_x[worse], residual[worse] = (rec[0][worse], rec[1][worse],
                                                          rec[2][worse])
-    # the period of each design's best start, recorded for the figures
-    out_x, out_u, out_y, _ = stepper.run(best_x, np.arange(B), sens=False)
+        recorded[worse] = False
+    missing = np.flatnonzero(~recorded)
+    if missing.size:
+        got = stepper.run(best_x[missing], missing, sens=False)[:3]
+        for out, g in zip(outs, got, strict=True):
+            out[:, missing] = g
+    out_x, out_u, out_y = outs
     return (out_x, out_u, out_y, _Stepper.oscillator(steps), converged, iterations, residual,
             best_x, monodromy)
