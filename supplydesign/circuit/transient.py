@@ -428,12 +428,13 @@ def _switch_on(plant: _Plant, warm_at_s, final_v, t_max_s, delay_s, record) -> S
                               1e-7 * plant.vscale[active], np.empty((1, 1, 1, 1)),
                               JUNCTION_ITERATIONS, False, np.empty((1, 1, 1)), True, xs, us,
                               ys)
-            xs, us = xs[:, 1:].transpose(1, 0, 2), us[:, 1:].transpose(1, 0, 2)
-            t_end = fr[1:, None] * T[None, :]
-            vv = np.einsum("ari,nai->nar", mats["out_x"], xs)
-            v = (vv[:, :, :R] + np.einsum("ari,ni->nar", mats["Rs"], _oscillator(fr[1:]))
-                 + np.einsum("arp,nap->nar", mats["Ru"], us))
-            area += account(t_end, v, vv[:, :, R:], us, h)
+            # rail and capacitor voltages of the block, (A, n, ...) as stepped, then steps
+            # first as account takes them
+            vv = xs[:, 1:] @ mats["out_x"].transpose(0, 2, 1)
+            v = (vv[:, :, :R] + _oscillator(fr[1:]) @ mats["Rs"].transpose(0, 2, 1)
+                 + us[:, 1:] @ mats["Ru"].transpose(0, 2, 1))
+            area += account(fr[1:, None] * T[None, :], v.transpose(1, 0, 2),
+                            vv[:, :, R:].transpose(1, 0, 2), us[:, 1:].transpose(1, 0, 2), h)
             frac = fr[-1]
             span += n * h
             pos += n
