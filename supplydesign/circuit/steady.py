@@ -581,6 +581,7 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
     monodromy = np.zeros((B, nx, nx)) if m0 is None else np.where(given[:, None, None], m0,
                                                                     0.0)
     near = np.zeros(B, dtype=bool)
+    backtrack = np.zeros(B, dtype=bool)  # the trial is a shorter one along a rejected step
     best_res = np.zeros((B, nx))  # P(x) - x at best_x
     # the period from each design's best start, for the figures, and whether it is there
     P = Cy.shape[1]
@@ -590,13 +591,15 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
 
     def newton(active: np.ndarray, n_iter: int, chord: np.ndarray | None = None) -> None:
         near[active] = False if chord is None else chord[active]
+        backtrack[active] = False
         lam[active] = 1.0
         step[active] = 0.0
         for _it in range(n_iter):
             # each design runs with sensitivities or, near its fixed point, without; a
             # chord period from a residual below RECORD_BELOW is likely the last, and
-            # keeps its samples for the figures
-            sens = ~near[active]
+            # keeps its samples for the figures. A shorter trial along a rejected step
+            # runs without; its sensitivities are worked out only if it is taken.
+            sens = ~near[active] & ~backtrack[active]
             start = trial[active]
             r = np.empty_like(start)
             kind = np.where(sens, 0, np.where(best_r[active] < RECORD_BELOW, 2, 1))
@@ -615,6 +618,11 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
                                                              1e-300)
             iterations[active] += 1
             improved = rel < best_r[active]
+            late = np.flatnonzero(improved & backtrack[active] & ~near[active])
+            if late.size:
+                monodromy[active[late]] = stepper.run(start[late], active[late], sens=True,
+                                                      record=False)[3]
+                sens[late] = True
             # accept improved trials; the others go back towards the best point
             acc = active[improved]
             chorded = improved & ~sens
@@ -647,6 +655,7 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
                 lam[active[go]] = 1.0
             back = ~improved
             lam[active[back]] *= 0.5
+            backtrack[active] = back
             keep = go | (back & (lam[active] > 1e-3))
             active = active[keep]
             if active.size == 0:
