@@ -101,3 +101,23 @@ def test_cases_started_from_the_first_agree_with_cases_solved_alone():
             np.testing.assert_allclose(getattr(shared[case.name].arrays, name),
                                        getattr(alone.arrays, name), rtol=1e-7, atol=1e-9,
                                        err_msg=f"{case.name} {name}")
+
+
+@pytest.mark.parametrize("load", ["full", "idle", "none"])
+def test_a_circuit_with_another_load_is_the_circuit_built_for_it(load):
+    """solve_cases builds each topology's netlist once and derives the other cases'
+    loads from it: every value equals that of a netlist built for the load."""
+    from supplydesign.circuit.netlist import OperatingCase, with_load
+
+    # constant-current stages on rails a and b, a resistive one on rail c
+    base = _design("valve", "full-wave")
+    rail_c = Rail("c", "b", Link("resistor", resistance_ohm=3300.0), Capacitor(22e-6),
+                  load_resistance_ohm=68e3)
+    designs = [Design(base.title, base.mains, base.transformer, base.rectifier,
+                      (*base.rails[:2], rail_c))]
+    derived = with_load(build(designs), load)
+    direct = build(designs, OperatingCase("x", 1.0, load))
+    assert derived.values.keys() == direct.values.keys()
+    for name, params in direct.values.items():
+        for p, v in params.items():
+            np.testing.assert_array_equal(derived.values[name][p], v, err_msg=f"{name} {p}")

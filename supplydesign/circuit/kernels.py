@@ -167,7 +167,7 @@ def _matmul_into(out, A, B):
 
 @njit(cache=True, fastmath=FAST)
 def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law, a, nvt,
-              v_lin, v_crit, vtol, powers, max_iter, sens, S, record, xs, us, ys):
+              v_lin, v_crit, vtol, powers, ahead, max_iter, sens, S, record, xs, us, ys):
     """Step designs ``sel`` of a batch ``s.shape[0] - 1`` steps on.
 
     Parameters
@@ -194,8 +194,15 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
         the start of the linear continuation and SPICE's critical voltage [V] (silicon).
     vtol : (B,) float
         Voltage tolerance of each design's junction solve [V].
-    powers : (B, L, nx, nx) float
-        Phi^(2^i), i < L, with 2^L above any run of off steps (used with ``sens``).
+    powers : (B, L, nx + 3, nx + 3) float
+        The i-th binary power Phi_off^(2^i), i < L, of each design's step with every
+        junction off, on the augmented state z = (x, s) (2^L above any run of off
+        steps); its top left block is Phi^(2^i), which carries the sensitivity over a
+        run of off steps. Without ``record``, a run of off steps found by ``ahead`` is
+        jumped at once.
+    ahead : (B, LA, P, nx + 3) float
+        The junction voltages j = 1 .. LA steps on with every junction off, as rows on
+        z: Cy Phi_off^j restricted to x. Unused with ``record`` (shape (1, 1, 1, 1)).
     max_iter : int
         Newton iterations of a junction solve at most.
     sens : bool
@@ -238,6 +245,7 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
                 ys[j, 0] = yj
         _design_steps(j, xj, uj, yj, ypj, yppj, y_on, u_off, Phi[d], G0[d], G1[d], Phis[d],
                       Cy[d], s, law, a[d], nvt[d], v_lin[d], v_crit[d], vtol[d], powers[d],
+                      ahead[d] if not record else ahead[0],
                       max_iter, sens, S[j] if sens else S[0], record, xs, us, ys)
         x[j] = xj
         u[j] = uj
@@ -248,7 +256,8 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
 
 @njit(cache=True, fastmath=FAST)
 def _design_steps(j, x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, Cy, s, law,
-                  a, nvt, v_lin, v_crit, tol, powers, max_iter, sens, S, record, xs, us, ys):
+                  a, nvt, v_lin, v_crit, tol, powers, ahead, max_iter, sens, S, record, xs,
+                  us, ys):
     """The steps of :func:`run_steps` for one design (row j), on its own arrays."""
     nx = x.shape[0]
     P = u.shape[0]
@@ -272,7 +281,49 @@ def _design_steps(j, x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, C
             Z[p, q] = acc
         g[p] = 0.0 if y[p] <= y_on[p] else _law(law, y[p], a[p], nvt[p], v_lin[p])[1]
     pending = 0  # off steps not yet applied to S
-    for k in range(steps):
+    na = nx + 3
+    z = np.empty(na)
+    zt = np.empty(na)
+    LA = ahead.shape[0]
+    k = -1
+    while k < steps - 1:
+        k += 1
+        if not record:
+            still = True  # every junction off now: how many steps it stays so
+            for p in range(P):
+                if g[p] != 0.0 or y[p] > y_on[p]:
+                    still = False
+            n = 0
+            if still:
+                for i in range(nx):
+                    z[i] = x[i]
+                z[nx], z[nx + 1], z[nx + 2] = s[k, 0], s[k, 1], s[k, 2]
+                for jj in range(min(LA, steps - k)):
+                    on = False
+                    for p in range(P):
+                        acc = 0.0
+                        for i in range(na):
+                            acc += ahead[jj, p, i] * z[i]
+                        if acc > y_on[p]:
+                            on = True
+                    if on:
+                        break
+                    n += 1
+            if n >= 2:
+                _jump_state(z, powers, n, zt)
+                for i in range(nx):
+                    x[i] = z[i]
+                for p in range(P):
+                    acc = 0.0
+                    for i in range(nx):
+                        acc += Cy[p, i] * x[i]
+                    y[p] = acc
+                    y_prev[p] = acc
+                    y_prev2[p] = acc
+                    u[p] = u_off[p]
+                pending += n
+                k += n - 1
+                continue
         # the state with no current at the step's end, and its junction voltages b
         s0, s1 = s[k, 0], s[k, 1]
         for i in range(nx):
@@ -387,11 +438,31 @@ def _design_steps(j, x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, C
 
 @njit(cache=True, fastmath=FAST)
 def _jump(S, powers, n, T):
-    """S = Phi^n S in place, from the binary powers of Phi (T: workspace)."""
+    """S = Phi^n S in place, from the top left blocks (Phi^(2^i)) of the binary powers
+    of the off map (T: workspace)."""
+    nx = S.shape[0]
     i = 0
     while n:
         if n & 1:
-            _matmul_into(T, powers[i], S)
+            _matmul_into(T, powers[i, :nx, :nx], S)
             S[:, :] = T
+        n >>= 1
+        i += 1
+
+
+@njit(cache=True, fastmath=FAST)
+def _jump_state(z, powers, n, zt):
+    """z = Phi_off^n z in place, from the binary powers of the off map (zt: workspace)."""
+    na = z.shape[0]
+    i = 0
+    while n:
+        if n & 1:
+            for r in range(na):
+                acc = 0.0
+                for c in range(na):
+                    acc += powers[i, r, c] * z[c]
+                zt[r] = acc
+            for r in range(na):
+                z[r] = zt[r]
         n >>= 1
         i += 1

@@ -407,6 +407,24 @@ def build(designs: Sequence[Design], case: OperatingCase = NOMINAL) -> Circuit:
     return Circuit(topo, values, freq, tuple(designs))
 
 
+def with_load(circuit: Circuit, load: str) -> Circuit:
+    """``circuit`` (built by :func:`build`) with its stages drawing as in ``load``
+    ("full", "idle" or "none", as :class:`OperatingCase`): the load elements' values
+    worked out again, every other value shared."""
+    values = dict(circuit.values)
+    for e in circuit.topology.elements:
+        if e.role and e.role[0] == "load":
+            rails = [d.rails[e.role[1]] for d in circuit.designs]
+            if e.kind == "R":
+                r = [math.inf if load == "none" else rail.load_resistance_ohm for rail in rails]
+                values[e.name] = {"r": np.array(r, dtype=float)}
+            else:
+                pick = {"full": lambda rail: rail.current_a, "idle": lambda rail: rail.idle_a,
+                        "none": lambda rail: 0.0}[load]
+                values[e.name] = {"i": np.array([pick(rail) for rail in rails], dtype=float)}
+    return Circuit(circuit.topology, values, circuit.frequency_hz, circuit.designs)
+
+
 #: most steps per mains period a fast charging loop gets (see steps_needed)
 MAX_STEPS_PER_PERIOD = 8192
 

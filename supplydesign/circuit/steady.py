@@ -77,6 +77,8 @@ FALLBACK_PERIODS = 10
 FALLBACK_ROUNDS = 3
 #: largest period-to-period decay ratio the extrapolation after plain periods assumes
 MAX_DECAY_RATIO = 0.999
+#: steps ahead the next turn-on of a junction is looked for at once (see _off_map)
+LOOKAHEAD_STEPS = 32
 #: Newton iterations of one step's junction solve at most
 JUNCTION_ITERATIONS = 60
 #: default number of steps per mains period
@@ -286,7 +288,7 @@ class _Stepper:
         self.s = self.oscillator(steps, start)  # the period runs from phase start/steps
         self.a, self.nvt, self.v_lin, self.v_crit = kernel_params(batch.law, batch.params)
         self.vtol = 1e-7 * batch.vscale  # [V]
-        self.powers = _binary_powers(batch.Phi, steps)
+        self.powers, self.ahead = _off_map(batch, self.a, steps)
         self.mats = tuple(np.ascontiguousarray(m) for m in
                           (batch.Phi, batch.G0, batch.G1, batch.Phis, batch.Cy))
 
@@ -321,7 +323,9 @@ class _Stepper:
         S = np.broadcast_to(np.eye(nx), (n, nx, nx)).copy() if sens else np.empty((1, 1, 1))
         kernels.run_steps(np.asarray(sel, dtype=np.int64), x, u, y, y_prev, y_prev2, True,
                           *self.mats, self.s, self.law, self.a, self.nvt, self.v_lin,
-                          self.v_crit, self.vtol, self.powers, JUNCTION_ITERATIONS, sens, S,
+                          self.v_crit, self.vtol, self.powers,
+                          np.empty((1, 1, 1, 1)) if record else self.ahead,
+                          JUNCTION_ITERATIONS, sens, S,
                           record, xs, us, ys)
         if not record:
             return x[None], None, None, S if sens else None
@@ -342,12 +346,39 @@ def kernel_params(law: str, params: dict[str, np.ndarray]) -> tuple[np.ndarray, 
                  for k in ("k" if law == "valve" else "isat", "nvt", "v_lin", "v_crit"))
 
 
-def _binary_powers(Phi: np.ndarray, steps: int) -> np.ndarray:
-    """Phi^(2^i) for i = 0 .. L - 1 with 2^L > steps, shape (B, L, nx, nx)."""
-    powers = [np.ascontiguousarray(Phi)]
+def _off_map(batch: _Batch, a: np.ndarray, steps: int,
+             lookahead: int = LOOKAHEAD_STEPS) -> tuple[np.ndarray, np.ndarray]:
+    """The step of each design with every junction off, on the augmented state
+    z = (x, s): its binary powers Phi_off^(2^i) (2^L > steps), (B, L, nx + 3, nx + 3),
+    and the junction voltages 1 .. ``lookahead`` steps on, Cy Phi_off^j as rows on z,
+    (B, lookahead, P, nx + 3).
+
+    With every junction off the network is linear and driven by the mains alone: one
+    step is x -> Phi x + Phis s + (G0 + G1) u_off, the oscillator s turning by one
+    step's angle, the junction currents at their off value u_off (0 for a valve, -I_s
+    [A] for silicon, ``a`` being the saturation current there). Its powers are the
+    step-by-step map itself over a run of off steps, up to rounding."""
+    B, nx, P = batch.G0.shape
+    na = nx + 3
+    u_off = np.zeros((B, P)) if batch.law == "valve" else -a
+    turn = 2.0 * np.pi / steps
+    phi = np.zeros((B, na, na))
+    phi[:, :nx, :nx] = batch.Phi
+    phi[:, :nx, nx:] = batch.Phis
+    phi[:, :nx, nx + 2] += ((batch.G0 + batch.G1) @ u_off[..., None])[..., 0]
+    phi[:, nx:, nx:] = [[np.cos(turn), np.sin(turn), 0.0],
+                        [-np.sin(turn), np.cos(turn), 0.0], [0.0, 0.0, 1.0]]
+    powers = [phi]
     while 2 ** len(powers) <= steps:
         powers.append(powers[-1] @ powers[-1])
-    return np.ascontiguousarray(np.stack(powers, axis=1))
+    L = min(lookahead, steps)
+    ahead = np.empty((B, L, P, na))
+    row = np.zeros((B, P, na))
+    row[:, :, :nx] = batch.Cy
+    for j in range(L):
+        row = row @ phi
+        ahead[:, j] = row
+    return np.ascontiguousarray(np.stack(powers, axis=1)), ahead
 
 
 def _max_emf(ss: StateSpace) -> np.ndarray:

@@ -22,7 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..circuit.netlist import Circuit, OperatingCase, build, solving_groups
+from ..circuit.netlist import Circuit, OperatingCase, build, solving_groups, with_load
 from ..circuit.statespace import build_state_space
 from ..circuit.steady import (
     STEPS_PER_PERIOD,
@@ -69,12 +69,18 @@ def mains_factors(designs: Sequence[Design], mains: str) -> np.ndarray:
     raise ValueError(f"unknown mains limit {mains!r}")
 
 
-def case_circuit(designs: Sequence[Design], case: Case) -> Circuit:
-    """The batched circuit of designs of one topology in ``case``."""
-    circuit = build(list(designs), OperatingCase(case.name, 1.0, case.load))
+def case_circuit(designs: Sequence[Design], case: Case, base: Circuit | None = None) -> Circuit:
+    """The batched circuit of designs of one topology in ``case``; from ``base``, the
+    same designs' circuit at nominal mains, when given (only the loads and the winding
+    emfs differ)."""
+    if base is None:
+        circuit = build(list(designs), OperatingCase(case.name, 1.0, case.load))
+    else:
+        circuit = with_load(base, case.load)
     factor = mains_factors(designs, case.mains)
     for e in circuit.topology.of_kind("W"):
-        circuit.values[e.name]["emf"] = circuit.values[e.name]["emf"] * factor
+        circuit.values[e.name] = {**circuit.values[e.name],
+                                  "emf": circuit.values[e.name]["emf"] * factor}
     return circuit
 
 
@@ -212,8 +218,9 @@ def solve_cases(designs: Sequence[Design], cases: Sequence[Case],
     for idx, _n_steps in groups:
         sub = [designs[i] for i in idx]
         circuits = []
+        base = build(sub)
         for c in cases:
-            circuit = case_circuit(sub, c)
+            circuit = case_circuit(sub, c, base)
             if adjust is not None:
                 adjust(c, circuit)
             circuits.append(circuit)
