@@ -31,9 +31,32 @@ class Solved:
 
     def __post_init__(self):
         st = self.steady
-        ss = st.ss
-        self._xi = _over_period(ss.Rx, st.x, ss.Rs, st.s, ss.Ru, st.u)  # (K+1, B, N+M)
-        self._dx = None
+        # each state's and junction current's waveform contiguous: (B, nx, K+1), (B, P, K+1)
+        self._xk = np.ascontiguousarray(st.x.transpose(1, 2, 0))
+        self._uk = np.ascontiguousarray(st.u.transpose(1, 2, 0))
+        self._rows: dict = {}  # waveforms worked out so far, (K+1, B) each
+
+    @property
+    def _samples(self) -> tuple[int, int]:
+        """(K+1, B): the shape of one waveform of the batch."""
+        return (self._xk.shape[2], self._xk.shape[0])
+
+    def _row(self, key: str, X: np.ndarray, S: np.ndarray, U: np.ndarray,
+             row: int) -> np.ndarray:
+        """Row ``row`` of X x + S s + U u over the period, (K+1, B), worked out once: a
+        state itself where the row picks one state alone (a node holding capacitance,
+        an inductor current), else from every state, the mains and the junctions."""
+        if (key, row) not in self._rows:
+            xr, sr, ur = X[:, row], S[:, row], U[:, row]
+            nz = np.flatnonzero(np.any(xr != 0.0, axis=0))
+            if (nz.size == 1 and np.all(xr[:, nz[0]] == 1.0) and not np.any(sr)
+                    and not np.any(ur)):
+                out = self._xk[:, nz[0]]
+            else:
+                out = ((xr[:, None, :] @ self._xk)[:, 0] + sr @ self.steady.s.T
+                       + (ur[:, None, :] @ self._uk)[:, 0])
+            self._rows[key, row] = out.T
+        return self._rows[key, row]
 
     @property
     def t_s(self) -> np.ndarray:
@@ -44,21 +67,19 @@ class Solved:
     def node_v(self, node: str) -> np.ndarray:
         """Voltage of ``node`` against ground over the period [V], shape (K+1, B)."""
         if node == GROUND:
-            return np.zeros(self._xi.shape[:2])
-        return self._xi[:, :, self.steady.ss.node_index[node]]
+            return np.zeros(self._samples)
+        ss = self.steady.ss
+        return self._row("xi", ss.Rx, ss.Rs, ss.Ru, ss.node_index[node])
 
     def _node_dvdt(self, node: str) -> np.ndarray:
         if node == GROUND:
-            return np.zeros(self._xi.shape[:2])
-        st = self.steady
-        ss = st.ss
-        if self._dx is None:
-            self._dx = _over_period(ss.A, st.x, ss.Bs, st.s, ss.Bu, st.u)
+            return np.zeros(self._samples)
+        ss = self.steady.ss
         row = ss.Rx[0, ss.node_index[node]]
         col = np.flatnonzero(row)
         if len(col) != 1 or np.any(ss.Ru[:, ss.node_index[node]] != 0):
             raise ValueError(f"node {node} holds no capacitance")
-        return self._dx[:, :, col[0]]
+        return self._row("dx", ss.A, ss.Bs, ss.Bu, col[0])
 
     def current(self, name: str) -> np.ndarray:
         """Current through element ``name`` from its node a to its node b [A], (K+1, B)."""
@@ -67,7 +88,8 @@ class Solved:
         if e.kind == "R":
             return (self.node_v(e.a) - self.node_v(e.b)) / c.value(name, "r")[None, :]
         if e.kind == "L":
-            return self._xi[:, :, self.steady.ss.inductor_index[name]]
+            ss = self.steady.ss
+            return self._row("xi", ss.Rx, ss.Rs, ss.Ru, ss.inductor_index[name])
         if e.kind == "W":
             s = self.steady.s
             emf = c.value(name, "emf")[None, :]
@@ -79,18 +101,8 @@ class Solved:
         if e.kind == "D":
             return self.steady.u[:, :, self.steady.ss.ports.index(e)]
         if e.kind == "J":
-            return np.broadcast_to(c.value(name, "i")[None, :], self._xi.shape[:2])
+            return np.broadcast_to(c.value(name, "i")[None, :], self._samples)
         raise ValueError(e.kind)
-
-
-def _over_period(X: np.ndarray, x: np.ndarray, S: np.ndarray, s: np.ndarray, U: np.ndarray,
-                 u: np.ndarray) -> np.ndarray:
-    """X x + S s + U u at every sample of a period: matrices (B, n, .), samples x (K, B, .),
-    s (K, 3), u (K, B, .); returns (K, B, n)."""
-    out = x.transpose(1, 0, 2) @ X.transpose(0, 2, 1)  # (B, K, n)
-    out += u.transpose(1, 0, 2) @ U.transpose(0, 2, 1)
-    out += s[None] @ S.transpose(0, 2, 1)
-    return out.transpose(1, 0, 2)
 
 
 def _period(w: np.ndarray) -> np.ndarray:
