@@ -616,8 +616,9 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
     best_res = np.zeros((B, nx))  # P(x) - x at best_x
     # the period from each design's best start, for the figures, and whether it is there
     P = Cy.shape[1]
-    outs = (np.empty((steps + 1, B, nx)), np.empty((steps + 1, B, P)),
-            np.empty((steps + 1, B, P)))
+    # design-major, as the kernel writes them: (B, steps + 1, ...)
+    outs = (np.empty((B, steps + 1, nx)), np.empty((B, steps + 1, P)),
+            np.empty((B, steps + 1, P)))
     recorded = np.zeros(B, dtype=bool)
 
     def newton(active: np.ndarray, n_iter: int, chord: np.ndarray | None = None) -> None:
@@ -665,7 +666,7 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
                 take = improved[rec_rows]
                 rows = active[rec_rows[take]]
                 for out, got in zip(outs, samples, strict=True):
-                    out[:, rows] = got[:, take]
+                    out[rows] = got.transpose(1, 0, 2)[take]
                 recorded[rows] = True
             before = best_r[active]
             best_r[acc] = rel[improved]
@@ -736,7 +737,7 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
     if missing.size:
         got = stepper.run(best_x[missing], missing, sens=False)[:3]
         for out, g in zip(outs, got, strict=True):
-            out[:, missing] = g
-    out_x, out_u, out_y = outs
+            out[missing] = g.transpose(1, 0, 2)
+    out_x, out_u, out_y = (a.transpose(1, 0, 2) for a in outs)
     return (out_x, out_u, out_y, _Stepper.oscillator(steps), converged, iterations, residual,
             best_x, monodromy)
