@@ -47,7 +47,14 @@ class CapacitorStress:
 
 
 def capacitor_stress(wc: WorstCases) -> CapacitorStress:
-    """Every capacitor's highest voltage over the cases and the switch-on runs."""
+    """Every capacitor's highest voltage over the cases and the switch-on runs (worked out
+    for the whole batch once, kept with ``wc``)."""
+    if "capacitor_stress" not in wc.derived:
+        wc.derived["capacitor_stress"] = _capacitor_stress(wc)
+    return wc.derived["capacitor_stress"]
+
+
+def _capacitor_stress(wc: WorstCases) -> CapacitorStress:
     shape = wc.lc_q.shape
     rating = np.full(shape, np.nan)
     for b, d in enumerate(wc.designs):

@@ -22,7 +22,7 @@ charge, isolation and fusing follow local codes and licensed practice.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -88,6 +88,8 @@ class WorstCases:
     bleeder: dict[str, np.ndarray]  # suggestion: ohm, power_w, nominal_power_w, worst_s (B,)
     # per topology group (design indices, SwitchOn with its record) when analysed with record
     cold_runs: list | None = None
+    # what is worked out from these figures for the whole batch once (stress.capacitor_stress)
+    derived: dict = field(default_factory=dict, repr=False, compare=False)
 
 
 def _rails(designs: Sequence[Design]) -> int:
