@@ -634,7 +634,8 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
             sens = ~near[active] & ~backtrack[active]
             start = trial[active]
             r = np.empty_like(start)
-            kind = np.where(sens, 0, np.where(best_r[active] < RECORD_BELOW, 2, 1))
+            kind = np.where(sens, 0, np.where(near[active] & (best_r[active] < RECORD_BELOW),
+                                              2, 1))
             for run_kind in (0, 1, 2):
                 part = np.flatnonzero(kind == run_kind)
                 if part.size == 0:
@@ -666,7 +667,8 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
                 take = improved[rec_rows]
                 rows = active[rec_rows[take]]
                 for out, got in zip(outs, samples, strict=True):
-                    out[rows] = got.transpose(1, 0, 2)[take]
+                    got = got.transpose(1, 0, 2)  # as the kernel wrote it
+                    out[rows] = got if take.all() else got[take]
                 recorded[rows] = True
             before = best_r[active]
             best_r[acc] = rel[improved]
