@@ -167,7 +167,8 @@ def _matmul_into(out, A, B):
 
 @njit(cache=True, fastmath=FAST)
 def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law, a, nvt,
-              v_lin, v_crit, vtol, powers, ahead, max_iter, sens, S, record, xs, us, ys):
+              v_lin, v_crit, vtol, powers, ahead, max_iter, sens, S, record, rec_rows, xs, us,
+              ys):
     """Step designs ``sel`` of a batch ``s.shape[0] - 1`` steps on.
 
     Parameters
@@ -209,8 +210,11 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
         Carry the sensitivity dx/dx[start] along in S (n, nx, nx), which holds it at
         the start (the identity for a period) and is overwritten with it at the end.
     record : bool
-        Write x, u, y after each step k into xs[j, k + 1], us[j, k + 1], ys[j, k + 1]
-        (arrays (n, steps + 1, ...)); and the start into xs[j, 0] ... when ``init``.
+        Write x, u, y after each step k into xs[r, k + 1], us[r, k + 1], ys[r, k + 1]
+        with r = rec_rows[j] (arrays (., steps + 1, ...)); and the start into xs[r, 0] ...
+        when ``init``.
+    rec_rows : (n,) int
+        Where each design's samples go in xs, us, ys.
     """
     nx = x.shape[1]
     P = u.shape[1]
@@ -240,13 +244,13 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
                 else:
                     uj[p] = _law(law, acc, a[d, p], nvt[d, p], v_lin[d, p])[0]
             if record:
-                xs[j, 0] = xj
-                us[j, 0] = uj
-                ys[j, 0] = yj
-        _design_steps(j, xj, uj, yj, ypj, yppj, y_on, u_off, Phi[d], G0[d], G1[d], Phis[d],
+                xs[rec_rows[j], 0] = xj
+                us[rec_rows[j], 0] = uj
+                ys[rec_rows[j], 0] = yj
+        _design_steps(xj, uj, yj, ypj, yppj, y_on, u_off, Phi[d], G0[d], G1[d], Phis[d],
                       Cy[d], s, law, a[d], nvt[d], v_lin[d], v_crit[d], vtol[d], powers[d],
                       ahead[d] if not record else ahead[0],
-                      max_iter, sens, S[j] if sens else S[0], record, xs, us, ys)
+                      max_iter, sens, S[j] if sens else S[0], record, rec_rows[j], xs, us, ys)
         x[j] = xj
         u[j] = uj
         y[j] = yj
@@ -255,10 +259,11 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
 
 
 @njit(cache=True, fastmath=FAST)
-def _design_steps(j, x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, Cy, s, law,
-                  a, nvt, v_lin, v_crit, tol, powers, ahead, max_iter, sens, S, record, xs,
-                  us, ys):
-    """The steps of :func:`run_steps` for one design (row j), on its own arrays."""
+def _design_steps(x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, Cy, s, law, a,
+                  nvt, v_lin, v_crit, tol, powers, ahead, max_iter, sens, S, record, r, xs, us,
+                  ys):
+    """The steps of :func:`run_steps` for one design, on its own arrays; its samples go
+    to row r of xs, us, ys."""
     nx = x.shape[0]
     P = u.shape[0]
     steps = s.shape[0] - 1
@@ -390,9 +395,9 @@ def _design_steps(j, x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, C
                 acc += G1[i, p] * u[p]
             x[i] = acc
         if record:
-            xs[j, k + 1] = x
-            us[j, k + 1] = u
-            ys[j, k + 1] = y
+            xs[r, k + 1] = x
+            us[r, k + 1] = u
+            ys[r, k + 1] = y
         if not sens:
             continue
         quiet = True

@@ -302,32 +302,38 @@ class _Stepper:
     def of(cls, ss: StateSpace, disc: Discrete, steps: int) -> _Stepper:
         return cls(_Batch.of([ss], [disc]), steps)
 
-    def run(self, x0: np.ndarray, sel: np.ndarray, sens: bool, record: bool = True):
+    def run(self, x0: np.ndarray, sel: np.ndarray, sens: bool, record: bool = True,
+            into: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None):
         """One period from states x0 of designs ``sel``.
 
         Returns the states, junction currents and junction voltages at every step,
         (steps + 1, len(sel), ...), and the sensitivity of the end state to x0
         (None without ``sens``). Without ``record`` only the end state is kept: states
-        of shape (1, len(sel), nx), currents and voltages None.
+        of shape (1, len(sel), nx), currents and voltages None. With ``into``, arrays
+        (B, steps + 1, ...) of the whole batch, the samples are written to their rows
+        ``sel`` there, and only the end state is returned, as without ``record``.
         """
         n, nx = x0.shape
         P = self.a.shape[1]
         steps = self.steps
+        sel = np.asarray(sel, dtype=np.int64)
         x = np.array(x0, dtype=float, order="C")
         u, y, y_prev, y_prev2 = (np.empty((n, P)) for _ in range(4))
-        if record:
+        rows = np.arange(n)
+        if into is not None:
+            xs, us, ys = into
+            rows = sel
+        elif record:
             xs, us, ys = np.empty((n, steps + 1, nx)), np.empty((n, steps + 1, P)), \
                 np.empty((n, steps + 1, P))
         else:
             xs = us = ys = np.empty((1, 1, 1))
         S = np.broadcast_to(np.eye(nx), (n, nx, nx)).copy() if sens else np.empty((1, 1, 1))
-        kernels.run_steps(np.asarray(sel, dtype=np.int64), x, u, y, y_prev, y_prev2, True,
-                          *self.mats, self.s, self.law, self.a, self.nvt, self.v_lin,
-                          self.v_crit, self.vtol, self.powers,
+        kernels.run_steps(sel, x, u, y, y_prev, y_prev2, True, *self.mats, self.s, self.law,
+                          self.a, self.nvt, self.v_lin, self.v_crit, self.vtol, self.powers,
                           np.empty((1, 1, 1, 1)) if record else self.ahead,
-                          JUNCTION_ITERATIONS, sens, S,
-                          record, xs, us, ys)
-        if not record:
+                          JUNCTION_ITERATIONS, sens, S, record, rows, xs, us, ys)
+        if not record or into is not None:
             return x[None], None, None, S if sens else None
         # the samples of a design lie together; the callers index steps first
         return (xs.transpose(1, 0, 2), us.transpose(1, 0, 2), ys.transpose(1, 0, 2),
@@ -640,13 +646,12 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
                 part = np.flatnonzero(kind == run_kind)
                 if part.size == 0:
                     continue
-                xs, us, ys, S = stepper.run(start[part], active[part], sens=run_kind == 0,
-                                            record=run_kind == 2)
-                r[part] = xs[-1] - start[part]
+                x_end, _, _, S = stepper.run(start[part], active[part], sens=run_kind == 0,
+                                             record=run_kind == 2,
+                                             into=outs if run_kind == 2 else None)
+                r[part] = x_end[-1] - start[part]
                 if run_kind == 0:
                     monodromy[active[part]] = S
-                elif run_kind == 2:
-                    rec_rows, samples = part, (xs, us, ys)
             rel = _weighted_norm(w[active], r) / np.maximum(_weighted_norm(w[active], start),
                                                              1e-300)
             iterations[active] += 1
@@ -662,14 +667,10 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
             acc_chord = active[chorded]
             _broyden(monodromy, acc_chord, trial[acc_chord] - best_x[acc_chord],
                      r[chorded] - best_res[acc_chord], w[acc_chord])
+            # a recorded period is kept if its trial is taken (a rejected one wrote over
+            # the samples of the best start, which are then recorded again at the end)
             recorded[acc] = False
-            if np.any(kind == 2):
-                take = improved[rec_rows]
-                rows = active[rec_rows[take]]
-                for out, got in zip(outs, samples, strict=True):
-                    got = got.transpose(1, 0, 2)  # as the kernel wrote it
-                    out[rows] = got if take.all() else got[take]
-                recorded[rows] = True
+            recorded[active[kind == 2]] = improved[kind == 2]
             before = best_r[active]
             best_r[acc] = rel[improved]
             best_x[acc] = trial[acc]
@@ -737,9 +738,7 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
         recorded[worse] = False
     missing = np.flatnonzero(~recorded)
     if missing.size:
-        got = stepper.run(best_x[missing], missing, sens=False)[:3]
-        for out, g in zip(outs, got, strict=True):
-            out[missing] = g.transpose(1, 0, 2)
+        stepper.run(best_x[missing], missing, sens=False, into=outs)
     out_x, out_u, out_y = (a.transpose(1, 0, 2) for a in outs)
     return (out_x, out_u, out_y, _Stepper.oscillator(steps), converged, iterations, residual,
             best_x, monodromy)

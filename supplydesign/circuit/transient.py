@@ -427,7 +427,7 @@ def _switch_on(plant: _Plant, warm_at_s, final_v, t_max_s, delay_s, record) -> S
                               _oscillator(fr), law, *plant.junction_params(active),
                               1e-7 * plant.vscale[active], np.empty((1, 1, 1, 1)),
                               np.empty((1, 1, 1, 1)), JUNCTION_ITERATIONS, False,
-                              np.empty((1, 1, 1)), True, xs, us, ys)
+                              np.empty((1, 1, 1)), True, np.arange(A), xs, us, ys)
             # rail and capacitor voltages of the block, (A, n, ...) as stepped, then steps
             # first as account takes them
             vv = xs[:, 1:] @ mats["out_x"].transpose(0, 2, 1)
