@@ -210,9 +210,10 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
         Carry the sensitivity dx/dx[start] along in S (n, nx, nx), which holds it at
         the start (the identity for a period) and is overwritten with it at the end.
     record : bool
-        Write x, u, y after each step k into xs[r, k + 1], us[r, k + 1], ys[r, k + 1]
-        with r = rec_rows[j] (arrays (., steps + 1, ...)); and the start into xs[r, 0] ...
-        when ``init``.
+        Write x, u, y after each step k into xs[r, :, k + 1], us[r, :, k + 1],
+        ys[r, :, k + 1] with r = rec_rows[j] (arrays (., nx, steps + 1), (., P, steps + 1):
+        each state's waveform together, as the figures read them); and the start into
+        xs[r, :, 0] ... when ``init``.
     rec_rows : (n,) int
         Where each design's samples go in xs, us, ys.
     """
@@ -244,9 +245,9 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
                 else:
                     uj[p] = _law(law, acc, a[d, p], nvt[d, p], v_lin[d, p])[0]
             if record:
-                xs[rec_rows[j], 0] = xj
-                us[rec_rows[j], 0] = uj
-                ys[rec_rows[j], 0] = yj
+                xs[rec_rows[j], :, 0] = xj
+                us[rec_rows[j], :, 0] = uj
+                ys[rec_rows[j], :, 0] = yj
         _design_steps(xj, uj, yj, ypj, yppj, y_on, u_off, Phi[d], G0[d], G1[d], Phis[d],
                       Cy[d], s, law, a[d], nvt[d], v_lin[d], v_crit[d], vtol[d], powers[d],
                       ahead[d] if not record else ahead[0],
@@ -395,9 +396,9 @@ def _design_steps(x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, Cy, 
                 acc += G1[i, p] * u[p]
             x[i] = acc
         if record:
-            xs[r, k + 1] = x
-            us[r, k + 1] = u
-            ys[r, k + 1] = y
+            xs[r, :, k + 1] = x
+            us[r, :, k + 1] = u
+            ys[r, :, k + 1] = y
         if not sens:
             continue
         quiet = True

@@ -310,8 +310,9 @@ class _Stepper:
         (steps + 1, len(sel), ...), and the sensitivity of the end state to x0
         (None without ``sens``). Without ``record`` only the end state is kept: states
         of shape (1, len(sel), nx), currents and voltages None. With ``into``, arrays
-        (B, steps + 1, ...) of the whole batch, the samples are written to their rows
-        ``sel`` there, and only the end state is returned, as without ``record``.
+        (B, nx, steps + 1), (B, P, steps + 1) of the whole batch, the samples are
+        written to their rows ``sel`` there, and only the end state is returned, as
+        without ``record``.
         """
         n, nx = x0.shape
         P = self.a.shape[1]
@@ -324,8 +325,8 @@ class _Stepper:
             xs, us, ys = into
             rows = sel
         elif record:
-            xs, us, ys = np.empty((n, steps + 1, nx)), np.empty((n, steps + 1, P)), \
-                np.empty((n, steps + 1, P))
+            xs, us, ys = np.empty((n, nx, steps + 1)), np.empty((n, P, steps + 1)), \
+                np.empty((n, P, steps + 1))
         else:
             xs = us = ys = np.empty((1, 1, 1))
         S = np.broadcast_to(np.eye(nx), (n, nx, nx)).copy() if sens else np.empty((1, 1, 1))
@@ -335,8 +336,8 @@ class _Stepper:
                           JUNCTION_ITERATIONS, sens, S, record, rows, xs, us, ys)
         if not record or into is not None:
             return x[None], None, None, S if sens else None
-        # the samples of a design lie together; the callers index steps first
-        return (xs.transpose(1, 0, 2), us.transpose(1, 0, 2), ys.transpose(1, 0, 2),
+        # each waveform lies together; the callers index steps first
+        return (xs.transpose(2, 0, 1), us.transpose(2, 0, 1), ys.transpose(2, 0, 1),
                 S if sens else None)
 
 
@@ -622,9 +623,9 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
     best_res = np.zeros((B, nx))  # P(x) - x at best_x
     # the period from each design's best start, for the figures, and whether it is there
     P = Cy.shape[1]
-    # design-major, as the kernel writes them: (B, steps + 1, ...)
-    outs = (np.empty((B, steps + 1, nx)), np.empty((B, steps + 1, P)),
-            np.empty((B, steps + 1, P)))
+    # as the kernel writes them: (B, nx or P, steps + 1)
+    outs = (np.empty((B, nx, steps + 1)), np.empty((B, P, steps + 1)),
+            np.empty((B, P, steps + 1)))
     recorded = np.zeros(B, dtype=bool)
 
     def newton(active: np.ndarray, n_iter: int, chord: np.ndarray | None = None) -> None:
@@ -739,6 +740,6 @@ def _shoot(batch: _Batch, steps: int, tol: float, max_iter: int, x: np.ndarray,
     missing = np.flatnonzero(~recorded)
     if missing.size:
         stepper.run(best_x[missing], missing, sens=False, into=outs)
-    out_x, out_u, out_y = (a.transpose(1, 0, 2) for a in outs)
+    out_x, out_u, out_y = (a.transpose(2, 0, 1) for a in outs)
     return (out_x, out_u, out_y, _Stepper.oscillator(steps), converged, iterations, residual,
             best_x, monodromy)

@@ -419,8 +419,8 @@ def _switch_on(plant: _Plant, warm_at_s, final_v, t_max_s, delay_s, record) -> S
                 n = max(1, min(n, int(np.floor((later.min() - frac - 1e-12) / h))))
             fr = frac + h * np.arange(n + 1)
             A = active.size
-            xs, us, ys = np.empty((A, n + 1, nx)), np.empty((A, n + 1, P)), \
-                np.empty((A, n + 1, P))
+            xs, us, ys = np.empty((A, nx, n + 1)), np.empty((A, P, n + 1)), \
+                np.empty((A, P, n + 1))
             x, u, y, y_prev, y_prev2 = (np.array(v, dtype=float, order="C")
                                         for v in (x, u, y, y_prev, y_prev2))
             kernels.run_steps(np.arange(A), x, u, y, y_prev, y_prev2, False, *steppers,
@@ -428,13 +428,12 @@ def _switch_on(plant: _Plant, warm_at_s, final_v, t_max_s, delay_s, record) -> S
                               1e-7 * plant.vscale[active], np.empty((1, 1, 1, 1)),
                               np.empty((1, 1, 1, 1)), JUNCTION_ITERATIONS, False,
                               np.empty((1, 1, 1)), True, np.arange(A), xs, us, ys)
-            # rail and capacitor voltages of the block, (A, n, ...) as stepped, then steps
+            # rail and capacitor voltages of the block, (A, ., n) as stepped, then steps
             # first as account takes them
-            vv = xs[:, 1:] @ mats["out_x"].transpose(0, 2, 1)
-            v = (vv[:, :, :R] + _oscillator(fr[1:]) @ mats["Rs"].transpose(0, 2, 1)
-                 + us[:, 1:] @ mats["Ru"].transpose(0, 2, 1))
-            area += account(fr[1:, None] * T[None, :], v.transpose(1, 0, 2),
-                            vv[:, :, R:].transpose(1, 0, 2), us[:, 1:].transpose(1, 0, 2), h)
+            vv = mats["out_x"] @ xs[:, :, 1:]
+            v = (vv[:, :R] + mats["Rs"] @ _oscillator(fr[1:]).T + mats["Ru"] @ us[:, :, 1:])
+            area += account(fr[1:, None] * T[None, :], v.transpose(2, 0, 1),
+                            vv[:, R:].transpose(2, 0, 1), us[:, :, 1:].transpose(2, 0, 1), h)
             frac = fr[-1]
             span += n * h
             pos += n

@@ -32,6 +32,8 @@ class Solved:
     def __post_init__(self):
         st = self.steady
         # each state's and junction current's waveform contiguous: (B, nx, K+1), (B, P, K+1)
+        # (the solver records them so; a choke input's period, put back in phase order, is
+        # copied here)
         self._xk = np.ascontiguousarray(st.x.transpose(1, 2, 0))
         self._uk = np.ascontiguousarray(st.u.transpose(1, 2, 0))
         self._rows: dict = {}  # waveforms worked out so far, (K+1, B) each
