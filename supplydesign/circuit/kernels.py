@@ -22,6 +22,10 @@ a run of n off steps is applied at once as Phi^n from its binary powers. Otherwi
 junction voltages are found by Newton's method on y = b + Z f(y) (Z = Cy G1), silicon
 steps limited as SPICE limits them.
 
+The kernels follow numpy's floating-point rules (``error_model="numpy"``): a division by
+zero gives inf or NaN, as the array code they replaced did, for the shooting to flag,
+rather than an exception.
+
 Everything is in SI units: states are node voltages [V] and inductor currents [A],
 junction voltages [V], junction currents [A].
 
@@ -58,7 +62,7 @@ CURRENT_TOLERANCE_A = 1e-9
 FAST = {"reassoc", "contract"}
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _law(law, v, a, nvt, v_lin):
     """Junction current [A] and slope [S] at voltage v [V]: Child-Langmuir with
     perveance a [A/V^1.5] (valve), or Shockley with saturation current a [A] and n·V_T
@@ -77,7 +81,7 @@ def _law(law, v, a, nvt, v_lin):
     return i, g
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _limit(v_new, v_old, nvt, v_crit):
     """SPICE's pn limiting of a silicon Newton step from v_old to v_new [V], as
     :func:`~supplydesign.circuit.devices.limit_step`."""
@@ -92,7 +96,7 @@ def _limit(v_new, v_old, nvt, v_crit):
     return nvt * math.log(max(v_new / nvt, 1e-300))
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _lu(A, piv, n):
     """LU factorisation of A[:n, :n] in place with partial pivoting (rows in piv)."""
     for c in range(n):
@@ -110,7 +114,7 @@ def _lu(A, piv, n):
                 A[r, j] -= A[r, c] * A[c, j]
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _lu_solve(A, piv, n, rhs):
     """Solve with the factors of :func:`_lu` for the columns of rhs (n, m), in place."""
     m = rhs.shape[1]
@@ -131,7 +135,7 @@ def _lu_solve(A, piv, n, rhs):
             rhs[r, j] /= A[r, r]
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _solve_in_place(A, piv, n, rhs):
     """Solve A[:n, :n] X = rhs (n, m) in place of rhs (A overwritten): closed form for
     one or two junctions, LU with partial pivoting for more."""
@@ -151,7 +155,7 @@ def _solve_in_place(A, piv, n, rhs):
     _lu_solve(A, piv, n, rhs)
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _matmul_into(out, A, B):
     """out = A B for square blocks (out must not alias A or B)."""
     n, m, q = A.shape[0], A.shape[1], B.shape[1]
@@ -165,7 +169,7 @@ def _matmul_into(out, A, B):
                     out[i, j] += a * B[k, j]
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law, a, nvt,
               v_lin, v_crit, vtol, powers, ahead, max_iter, sens, S, record, rec_rows, xs, us,
               ys):
@@ -259,7 +263,7 @@ def run_steps(sel, x, u, y, y_prev, y_prev2, init, Phi, G0, G1, Phis, Cy, s, law
         y_prev2[j] = yppj
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _design_steps(x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, Cy, s, law, a,
                   nvt, v_lin, v_crit, tol, powers, ahead, max_iter, sens, S, record, r, xs, us,
                   ys):
@@ -442,7 +446,7 @@ def _design_steps(x, u, y, y_prev, y_prev2, y_on, u_off, Phi, G0, G1, Phis, Cy, 
         _jump(S, powers, pending, T)
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _jump(S, powers, n, T):
     """S = Phi^n S in place, from the top left blocks (Phi^(2^i)) of the binary powers
     of the off map (T: workspace)."""
@@ -456,7 +460,7 @@ def _jump(S, powers, n, T):
         i += 1
 
 
-@njit(cache=True, fastmath=FAST)
+@njit(cache=True, fastmath=FAST, error_model="numpy")
 def _jump_state(z, powers, n, zt):
     """z = Phi_off^n z in place, from the binary powers of the off map (zt: workspace)."""
     na = z.shape[0]
